@@ -1,0 +1,3 @@
+from trayadvisor.cli.main import main
+
+raise SystemExit(main())

@@ -1,0 +1,215 @@
+"""The cross-section as frozen dataclasses.
+
+No I/O and no numeric work lives here: the file reader builds these objects, the engines read
+them, and edits make new ones (``dataclasses.replace``) so that undo is a list of old models.
+
+Units follow layout format 1: millimetres, amperes RMS, degrees, hertz.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+
+SYSTEMS: tuple[str, ...] = ("ac3", "ac1", "dc", "signal")
+
+#: Phase labels allowed for each circuit system.
+PHASES: dict[str, tuple[str, ...]] = {
+    "ac3": ("L1", "L2", "L3", "N", "PE"),
+    "ac1": ("L", "N", "PE"),
+    "dc": ("+", "-", "PE"),
+    "signal": ("a", "b"),
+}
+
+#: Phase labels that must each have at least one conductor for the circuit to carry current.
+REQUIRED_PHASES: dict[str, tuple[str, ...]] = {
+    "ac3": ("L1", "L2", "L3"),
+    "ac1": ("L", "N"),
+    "dc": ("+", "-"),
+    "signal": ("a", "b"),
+}
+
+#: Fundamental angle of each phase label, degrees (SPEC conventions).
+PHASE_ANGLE_DEG: dict[str, float] = {
+    "L1": 0.0,
+    "L2": -120.0,
+    "L3": 120.0,
+    "L": 0.0,
+    "+": 0.0,
+    "-": 180.0,
+}
+
+#: Conductor materials with resistivity at 20 °C (Ω·m) and temperature coefficient (1/K).
+#: Source: IEC 60228 / IEC 60287-1-1 Table 1 (copper 1.7241e-8, aluminium 2.8264e-8;
+#: alpha 3.93e-3 and 4.03e-3), values from memory.
+MATERIALS: dict[str, tuple[float, float]] = {
+    "copper": (1.7241e-8, 3.93e-3),
+    "aluminium": (2.8264e-8, 4.03e-3),
+}
+
+
+@dataclass(frozen=True)
+class Tray:
+    """Inner cross-section of one tray: lower-left corner, width and depth (mm)."""
+
+    name: str
+    x_mm: float
+    y_mm: float
+    width_mm: float
+    depth_mm: float
+
+    @property
+    def bounds(self) -> tuple[float, float, float, float]:
+        """(xmin, ymin, xmax, ymax) in mm."""
+        return (self.x_mm, self.y_mm, self.x_mm + self.width_mm, self.y_mm + self.depth_mm)
+
+
+@dataclass(frozen=True)
+class Circuit:
+    """A circuit: system, fundamental RMS line current, optional harmonic spectrum.
+
+    ``harmonics`` maps harmonic order (>= 2) to that harmonic's RMS current as a fraction of
+    ``current_a``; it is stored as a sorted tuple of pairs so the dataclass stays hashable.
+    """
+
+    name: str
+    system: str
+    current_a: float = 0.0
+    angle_deg: float = 0.0
+    harmonics: tuple[tuple[int, float], ...] = ()
+    length_m: float | None = None
+
+
+@dataclass(frozen=True)
+class Conductor:
+    """One single-core conductor: centre (mm), overall diameter (mm) and what it carries."""
+
+    name: str
+    circuit: str
+    phase: str
+    x_mm: float
+    y_mm: float
+    diameter_mm: float
+    area_mm2: float | None = None
+    material: str | None = None
+    current_a: float | None = None
+    angle_deg: float | None = None
+    fixed: bool = False
+    tray: str | None = None
+
+    @property
+    def radius_mm(self) -> float:
+        return 0.5 * self.diameter_mm
+
+    def moved(self, x_mm: float, y_mm: float) -> Conductor:
+        return replace(self, x_mm=float(x_mm), y_mm=float(y_mm))
+
+
+@dataclass(frozen=True)
+class ObservationPoint:
+    """A named point where the field is reported (mm)."""
+
+    name: str
+    x_mm: float
+    y_mm: float
+
+
+@dataclass(frozen=True)
+class ObservationLine:
+    """A named straight line from (x0, y0) to (x1, y1) in mm, sampled at ``samples`` points."""
+
+    name: str
+    x0_mm: float
+    y0_mm: float
+    x1_mm: float
+    y1_mm: float
+    samples: int = 101
+
+
+@dataclass(frozen=True)
+class Limit:
+    """A named field limit in µT (user-defined in the layout, or from the library)."""
+
+    name: str
+    ut: float
+    source: str = "layout file"
+
+
+@dataclass(frozen=True)
+class Layout:
+    """A whole cross-section: trays, circuits, conductors, observation places and limits."""
+
+    title: str = ""
+    frequency_hz: float = 50.0
+    trays: tuple[Tray, ...] = ()
+    circuits: tuple[Circuit, ...] = ()
+    conductors: tuple[Conductor, ...] = ()
+    points: tuple[ObservationPoint, ...] = ()
+    lines: tuple[ObservationLine, ...] = ()
+    limits: tuple[Limit, ...] = ()
+    extra: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
+
+    # -- look-ups -------------------------------------------------------------------------
+    def circuit(self, name: str) -> Circuit:
+        for c in self.circuits:
+            if c.name == name:
+                return c
+        raise KeyError(name)
+
+    def conductor_index(self, name: str) -> int:
+        for i, c in enumerate(self.conductors):
+            if c.name == name:
+                return i
+        raise KeyError(name)
+
+    def conductors_of(self, circuit: str) -> tuple[Conductor, ...]:
+        return tuple(c for c in self.conductors if c.circuit == circuit)
+
+    def line(self, name: str) -> ObservationLine:
+        for ln in self.lines:
+            if ln.name == name:
+                return ln
+        raise KeyError(name)
+
+    def point(self, name: str) -> ObservationPoint:
+        for p in self.points:
+            if p.name == name:
+                return p
+        raise KeyError(name)
+
+    # -- geometry -------------------------------------------------------------------------
+    def envelope_mm(self) -> tuple[float, float, float, float]:
+        """Bounding rectangle (xmin, ymin, xmax, ymax) of all trays, or of the conductors'
+        outer circles when the layout has no tray (SPEC: the tray envelope)."""
+        if self.trays:
+            b = [t.bounds for t in self.trays]
+        elif self.conductors:
+            b = [
+                (c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
+                 c.y_mm + c.radius_mm)
+                for c in self.conductors
+            ]
+        else:
+            return (0.0, 0.0, 0.0, 0.0)
+        return (
+            min(v[0] for v in b),
+            min(v[1] for v in b),
+            max(v[2] for v in b),
+            max(v[3] for v in b),
+        )
+
+    # -- edits (each returns a new Layout) ------------------------------------------------
+    def with_conductor(self, index: int, conductor: Conductor) -> Layout:
+        cs = list(self.conductors)
+        cs[index] = conductor
+        return replace(self, conductors=tuple(cs))
+
+    def with_conductors(self, conductors: tuple[Conductor, ...] | list[Conductor]) -> Layout:
+        return replace(self, conductors=tuple(conductors))
+
+    def with_positions(self, positions_mm: dict[str, tuple[float, float]]) -> Layout:
+        """A copy with the named conductors moved to new centres (mm)."""
+        cs = tuple(
+            c.moved(*positions_mm[c.name]) if c.name in positions_mm else c
+            for c in self.conductors
+        )
+        return replace(self, conductors=cs)
