@@ -1,0 +1,1 @@
+"""Command-line front end: argument parsing and output only; no physics here."""

@@ -1,0 +1,107 @@
+"""``trayadvisor field FILE``: stray field at a distance, far-field decay, points, clearance."""
+
+from __future__ import annotations
+
+import argparse
+
+from trayadvisor.analysis import DEFAULT_DISTANCE_MM, FieldSummary, field_summary
+from trayadvisor.cli.common import (
+    CAUTION_LINE,
+    UserError,
+    fmt_mm,
+    fmt_ut,
+    load,
+    non_negative,
+    parse_xy,
+    positive,
+    print_json,
+)
+from trayadvisor.model import Layout
+
+ORDER_WORDS = {1: "1/r (net current)", 2: "1/r² (dipole)", 3: "1/r³ (quadrupole)"}
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    p = sub.add_parser("field", help="stray field at distance d outside the tray envelope")
+    p.add_argument("files", nargs="+", metavar="FILE",
+                   help="layout file(s) or a folder of them (several: a batch run)")
+    p.add_argument("--distance-mm", type=float, default=DEFAULT_DISTANCE_MM, metavar="D",
+                   help=f"distance outside the tray envelope (default {DEFAULT_DISTANCE_MM:g})")
+    p.add_argument("--at", action="append", default=[], metavar="X,Y",
+                   help="also report the field at this point (mm); repeatable")
+    p.add_argument("--limit-ut", type=float, default=None, metavar="B",
+                   help="test against this limit (µT): pass/fail and clearance distance")
+    p.add_argument("--sharing", action="store_true",
+                   help="use solved current sharing between parallel conductors")
+    p.add_argument("--json", action="store_true", help="print the figures as JSON")
+    p.add_argument("--out", default=None, metavar="SUMMARY.csv",
+                   help="batch runs: write one summary row per file")
+    p.set_defaults(run=run)
+
+
+def options(args: argparse.Namespace) -> dict:
+    """Validated keyword arguments for :func:`compute` (shared with batch runs)."""
+    non_negative("--distance-mm", args.distance_mm)
+    limits = []
+    if args.limit_ut is not None:
+        positive("--limit-ut", args.limit_ut)
+        limits.append(("--limit-ut", args.limit_ut, "command line"))
+    return {
+        "distance_mm": args.distance_mm,
+        "at": [parse_xy(t) for t in args.at],
+        "limits": limits,
+        "sharing": bool(getattr(args, "sharing", False)),
+    }
+
+
+def compute(layout: Layout, distance_mm: float, at: list, limits: list,
+            sharing: bool = False) -> FieldSummary:
+    overrides = None
+    if sharing:
+        from trayadvisor.coupling import sharing_overrides
+
+        overrides = sharing_overrides(layout)
+    return field_summary(layout, distance_mm, at=at, limits=limits, overrides=overrides)
+
+
+def render(path: str, layout: Layout, s: FieldSummary) -> str:
+    order = ORDER_WORDS.get(s.far_field_order or 0,
+                            f"1/r^{s.far_field_order}" if s.far_field_order else "no field")
+    rows = [
+        f"{path}: {layout.title or '(untitled)'}",
+        f"  stray field at {s.distance_mm:g} mm: {fmt_ut(s.max_resultant_uT)} µT "
+        f"(resultant RMS), peak at x={s.max_at_mm[0]:.0f} mm, y={s.max_at_mm[1]:.0f} mm",
+        f"  far field falls as {order}; {fmt_ut(s.far_field_uT_at_1m)} µT at 1 m "
+        f"by the leading term",
+    ]
+    if s.points:
+        rows.append(f"  {'point':<14}{'x mm':>9}{'y mm':>9}{'resultant µT':>14}{'max µT':>10}")
+        for p in s.points:
+            rows.append(f"  {p.name:<14}{p.x_mm:>9.0f}{p.y_mm:>9.0f}"
+                        f"{fmt_ut(p.resultant_uT):>14}{fmt_ut(p.max_uT):>10}")
+    if s.limits:
+        rows.append(f"  {'limit':<28}{'µT':>8}  {'clearance':>14}  at {s.distance_mm:g} mm")
+        for lim in s.limits:
+            verdict = "pass" if lim.passes else "FAIL"
+            rows.append(f"  {lim.name[:27]:<28}{fmt_ut(lim.ut):>8}  {fmt_mm(lim.clearance_mm):>14}"
+                        f"  {verdict}")
+    rows.append(CAUTION_LINE)
+    return "\n".join(rows)
+
+
+def run(args: argparse.Namespace) -> int:
+    opts = options(args)
+    from trayadvisor.batch import expand_inputs
+
+    files = expand_inputs(args.files)
+    if len(files) != 1 or args.out:
+        from trayadvisor.cli.batchcmd import run_batch
+
+        return run_batch("field", files, opts, args)
+    layout = load(files[0])
+    summary = compute(layout, **opts)
+    if args.json:
+        print_json(summary.to_json())
+    else:
+        print(render(files[0], layout, summary))
+    return 0

@@ -1,0 +1,98 @@
+"""Helpers shared by the sub-commands: loading layouts, printing, JSON."""
+
+from __future__ import annotations
+
+import json
+import math
+import sys
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from trayadvisor.layoutfile import LayoutError, read_layout
+from trayadvisor.model import Layout
+
+CAUTION_LINE = (
+    "Caution: idealised model (long straight conductors in free space, no steel, screens or "
+    "induced currents); measure installed fields; no ampacity, derating, voltage-drop, fault "
+    "or segregation checks; people with active implants may be affected far below exposure "
+    "reference levels; defer to local wiring rules and licensed practice."
+)
+
+
+class UserError(Exception):
+    """A clean one-line error for the user (exit status 2)."""
+
+
+def demo_path() -> Path:
+    """Path of the built-in demo layout shipped in the package."""
+    return Path(str(resources.files("trayadvisor") / "data" / "demo.toml"))
+
+
+def load(path: str | Path) -> Layout:
+    """Read and validate a layout, turning every problem into a :class:`UserError`."""
+    try:
+        return read_layout(path)
+    except LayoutError as err:
+        raise UserError(str(err)) from None
+
+
+def parse_xy(text: str) -> tuple[float, float]:
+    """Parse ``X,Y`` in mm for ``--at``."""
+    try:
+        x, y = (float(v) for v in text.split(","))
+    except ValueError:
+        raise UserError(f"--at {text!r}: expected X,Y in mm, e.g. --at 300,900") from None
+    if not (math.isfinite(x) and math.isfinite(y)):
+        raise UserError(f"--at {text!r}: coordinates must be finite numbers")
+    return x, y
+
+
+def positive(name: str, value: float) -> float:
+    if not math.isfinite(value) or value <= 0:
+        raise UserError(f"{name} {value}: must be a positive number")
+    return value
+
+
+def non_negative(name: str, value: float) -> float:
+    if not math.isfinite(value) or value < 0:
+        raise UserError(f"{name} {value}: must be zero or a positive number")
+    return value
+
+
+def _clean(obj: Any) -> Any:
+    """Make floats JSON-safe (inf/NaN become null)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _clean(v) for k, v in obj.items()}
+    if isinstance(obj, list | tuple):
+        return [_clean(v) for v in obj]
+    return obj
+
+
+def dumps_json(obj: Any) -> str:
+    return json.dumps(_clean(obj), indent=2, ensure_ascii=False)
+
+
+def print_json(obj: Any) -> None:
+    sys.stdout.write(dumps_json(obj) + "\n")
+
+
+def fmt_ut(v: float) -> str:
+    """µT with sensible significant figures."""
+    if not math.isfinite(v):
+        return "inf"
+    if v == 0:
+        return "0"
+    if abs(v) >= 100:
+        return f"{v:.0f}"
+    if abs(v) >= 1:
+        return f"{v:.3g}" if abs(v) < 10 else f"{v:.1f}"
+    return f"{v:.3g}"
+
+
+def fmt_mm(v: float) -> str:
+    if not math.isfinite(v):
+        return "beyond 100 m"
+    return f"{v:.0f} mm"

@@ -1,0 +1,52 @@
+"""``trayadvisor`` entry point: one sub-command module per command.
+
+Each module in :data:`COMMANDS` exposes ``add_parser(subparsers)`` and ``run(args) -> int``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+from collections.abc import Sequence
+
+from trayadvisor import __version__
+from trayadvisor.cli.common import CAUTION_LINE, UserError
+
+COMMANDS: tuple[str, ...] = ("edit", "check", "field")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="trayadvisor",
+        description="Lay single-core conductors in cable trays for low stray magnetic field, "
+        "low crosstalk and even current sharing. Without a command: the terminal UI on the "
+        "built-in demo layout.",
+        epilog=CAUTION_LINE,
+    )
+    parser.add_argument("--version", action="version", version=f"trayadvisor {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name in COMMANDS:
+        importlib.import_module(f"trayadvisor.cli.cmd_{name}").add_parser(sub)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        if args.command is None:
+            return importlib.import_module("trayadvisor.cli.cmd_edit").run_default(args)
+        return int(args.run(args) or 0)
+    except UserError as err:
+        print(str(err), file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("trayadvisor: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,168 @@
+"""From a layout to the current sources an engine sees: positions, radii and phasors.
+
+Every engine (field, contour, ranking, coupling) takes its currents from :func:`sources`, so
+the phase conventions of SPEC.md live in exactly one place:
+
+- L1 = 0°, L2 = −120°, L3 = +120°; ac1 L = 0°, N returns the L current; dc + = +I, − = −I
+  (a real current, frequency component 0); PE and signal conductors carry 0 A unless given an
+  explicit current.
+- Harmonic h of a phase at angle φ has angle h·φ; a neutral carries the return of the phase
+  conductors' sum at every harmonic (balanced ac3: only the triplens, 3 × the phase's current).
+- A circuit's phase current is shared equally by its conductors of that phase unless a
+  conductor gives ``current_a`` (an explicit fundamental, angle from ``angle_deg`` or the
+  phase), or the caller passes solved currents in ``overrides``.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from trayadvisor.model import PHASE_ANGLE_DEG, Layout
+
+MM = 1e-3  #: metres per millimetre
+
+
+@dataclass(frozen=True)
+class Sources:
+    """Conductor geometry and RMS current phasors in SI units.
+
+    Attributes
+    ----------
+    xy_m : (n, 2) float
+        Conductor centres, metres.
+    radius_m : (n,) float
+        Conductor outer radii, metres (current assumed uniform over this disc).
+    orders : (H,) int
+        Frequency component of each row of ``currents``: 0 = DC, 1 = fundamental, h = harmonic.
+    frequency_hz : (H,) float
+        Frequency of each component (``orders * f``).
+    currents : (H, n) complex
+        RMS current phasor of each conductor at each component, amperes.
+    names : tuple of str
+        Conductor names in layout order.
+    """
+
+    xy_m: np.ndarray
+    radius_m: np.ndarray
+    orders: np.ndarray
+    frequency_hz: np.ndarray
+    currents: np.ndarray
+    names: tuple[str, ...]
+
+    @property
+    def n(self) -> int:
+        return self.xy_m.shape[0]
+
+
+def _polar(mag: float, angle_deg: float) -> complex:
+    a = np.deg2rad(angle_deg)
+    return complex(mag * np.cos(a), mag * np.sin(a))
+
+
+def conductor_currents(
+    layout: Layout,
+    overrides: Mapping[int, Mapping[str, complex]] | None = None,
+) -> dict[int, np.ndarray]:
+    """RMS current phasor of every conductor at every frequency component.
+
+    Parameters
+    ----------
+    layout : Layout
+    overrides : mapping order -> {conductor name -> phasor (A)}, optional
+        Solved currents (e.g. from current sharing) that replace the equal shares at that
+        component; a neutral still returns the (overridden) phase sum unless it is overridden.
+
+    Returns
+    -------
+    dict order -> (n,) complex array in layout conductor order.
+    """
+    cons = layout.conductors
+    n = len(cons)
+    index = {c.name: i for i, c in enumerate(cons)}
+    count = Counter((c.circuit, c.phase) for c in cons)
+    out: dict[int, np.ndarray] = {}
+
+    def row(order: int) -> np.ndarray:
+        if order not in out:
+            out[order] = np.zeros(n, dtype=complex)
+        return out[order]
+
+    for circ in layout.circuits:
+        members = [c for c in cons if c.circuit == circ.name]
+        if circ.system == "dc":
+            r = row(0)
+            for c in members:
+                if c.phase in ("+", "-"):
+                    sign = 1.0 if c.phase == "+" else -1.0
+                    mag = c.current_a if c.current_a is not None else (
+                        circ.current_a / count[(circ.name, c.phase)])
+                    r[index[c.name]] = sign * mag
+                elif c.current_a is not None:  # PE with an explicit current
+                    r[index[c.name]] = c.current_a
+            continue
+        harmonics = dict(circ.harmonics)
+        orders = [1] + sorted(h for h, frac in harmonics.items() if frac > 0 and h != 1)
+        neutrals = [c for c in members if c.phase == "N"]
+        for c in members:
+            if c.phase in PHASE_ANGLE_DEG:
+                phi = (c.angle_deg if c.angle_deg is not None
+                       else PHASE_ANGLE_DEG[c.phase] + circ.angle_deg)
+                mag = c.current_a if c.current_a is not None else (
+                    circ.current_a / count[(circ.name, c.phase)])
+                for h in orders:
+                    frac = 1.0 if h == 1 else harmonics[h]
+                    row(h)[index[c.name]] = _polar(mag * frac, h * phi)
+            elif c.current_a is not None and c.phase != "N":  # PE or signal, explicit
+                phi = c.angle_deg if c.angle_deg is not None else circ.angle_deg
+                row(1)[index[c.name]] = _polar(c.current_a, phi)
+        for h in orders:
+            r = row(h)
+            if overrides and h in overrides:
+                for name, value in overrides[h].items():
+                    if name in index and cons[index[name]].circuit == circ.name:
+                        r[index[name]] = value
+            if not neutrals:
+                continue
+            phase_idx = [index[c.name] for c in members if c.phase in PHASE_ANGLE_DEG]
+            ret = -r[phase_idx].sum()
+            explicit = [c for c in neutrals if h == 1 and c.current_a is not None]
+            for c in explicit:
+                phi = c.angle_deg if c.angle_deg is not None else float(np.angle(ret, deg=True))
+                r[index[c.name]] = _polar(c.current_a, phi)
+            free = [c for c in neutrals if c not in explicit
+                    and not (overrides and h in overrides and c.name in overrides[h])]
+            if free:
+                rest = ret - sum(r[index[c.name]] for c in explicit)
+                for c in free:
+                    r[index[c.name]] = rest / len(free)
+    return out
+
+
+def sources(
+    layout: Layout,
+    overrides: Mapping[int, Mapping[str, complex]] | None = None,
+) -> Sources:
+    """The layout's conductors as SI arrays with their current phasors (see module notes)."""
+    cons = layout.conductors
+    n = len(cons)
+    xy = np.array([[c.x_mm, c.y_mm] for c in cons], dtype=float).reshape(n, 2) * MM
+    radius = np.array([c.radius_mm for c in cons], dtype=float) * MM
+    rows = conductor_currents(layout, overrides)
+    orders = np.array(sorted(rows), dtype=int)
+    if orders.size == 0:
+        orders = np.array([1])
+        currents = np.zeros((1, n), dtype=complex)
+    else:
+        currents = np.stack([rows[h] for h in orders]).reshape(len(orders), n)
+    return Sources(
+        xy_m=xy,
+        radius_m=radius,
+        orders=orders,
+        frequency_hz=orders.astype(float) * float(layout.frequency_hz),
+        currents=currents,
+        names=tuple(c.name for c in cons),
+    )
