@@ -13,7 +13,7 @@ import numpy as np
 
 from trayadvisor.contour import clearance, stray_field
 from trayadvisor.field import ellipse_major_rms, far_field, phasor_field, resultant_rms
-from trayadvisor.model import Layout
+from trayadvisor.model import Layout, ObservationLine
 from trayadvisor.sources import MM, Sources, sources
 
 UT = 1e6  #: µT per tesla
@@ -39,6 +39,16 @@ class LimitFigure:
 
 
 @dataclass(frozen=True)
+class LineFigure:
+    """Largest resultant field along a named observation line (sampled)."""
+
+    name: str
+    max_resultant_uT: float
+    max_at_mm: tuple[float, float]
+    max_uT: float  # largest ellipse-maximum along the line
+
+
+@dataclass(frozen=True)
 class FieldSummary:
     """Stray field at a distance, where it peaks, far-field decay, points and limits."""
 
@@ -47,7 +57,9 @@ class FieldSummary:
     max_at_mm: tuple[float, float]
     far_field_order: int | None
     far_field_uT_at_1m: float
-    points: tuple[PointFigure, ...]
+    points: tuple[PointFigure, ...]  # one per requested point (``--at``), in order
+    named_points: tuple[PointFigure, ...]  # the layout's [[point]] entries
+    lines: tuple[LineFigure, ...]  # the layout's [[line]] entries
     limits: tuple[LimitFigure, ...]
     profile_s_mm: np.ndarray
     profile_uT: np.ndarray
@@ -65,6 +77,16 @@ class FieldSummary:
                 {"name": p.name, "x_mm": p.x_mm, "y_mm": p.y_mm,
                  "resultant_uT": p.resultant_uT, "max_uT": p.max_uT}
                 for p in self.points
+            ],
+            "named_points": [
+                {"name": p.name, "x_mm": p.x_mm, "y_mm": p.y_mm,
+                 "resultant_uT": p.resultant_uT, "max_uT": p.max_uT}
+                for p in self.named_points
+            ],
+            "lines": [
+                {"name": ln.name, "max_resultant_uT": ln.max_resultant_uT,
+                 "max_at_mm": list(ln.max_at_mm), "max_uT": ln.max_uT}
+                for ln in self.lines
             ],
             "limits": [
                 {"name": lim.name, "limit_uT": lim.ut, "source": lim.source,
@@ -99,6 +121,32 @@ def field_grid_uT(layout: Layout, bounds_mm: tuple[float, float, float, float], 
     return res.reshape(ny, nx)
 
 
+def _point_figures(src: Sources, place: list[tuple[str, float, float]]
+                   ) -> tuple[PointFigure, ...]:
+    if not place:
+        return ()
+    xy = np.array([[x, y] for _, x, y in place], dtype=float)
+    res, mx = field_at_points_uT(src, xy)
+    return tuple(PointFigure(nm, x, y, float(r), float(m))
+                 for (nm, x, y), r, m in zip(place, res, mx, strict=True))
+
+
+def line_points_mm(line: ObservationLine) -> np.ndarray:
+    """The sample points of an observation line, (samples, 2) in mm."""
+    t = np.linspace(0.0, 1.0, max(2, int(line.samples)))
+    return np.column_stack([line.x0_mm + t * (line.x1_mm - line.x0_mm),
+                            line.y0_mm + t * (line.y1_mm - line.y0_mm)])
+
+
+def line_figure(src: Sources, line: ObservationLine) -> LineFigure:
+    """Largest resultant and ellipse-maximum field over a line's sample points."""
+    xy = line_points_mm(line)
+    res, mx = field_at_points_uT(src, xy)
+    i = int(np.argmax(res))
+    return LineFigure(line.name, float(res[i]), (float(xy[i, 0]), float(xy[i, 1])),
+                      float(mx.max()))
+
+
 def stray_uT(layout: Layout, distance_mm: float, src: Sources | None = None) -> float:
     """The stray field at distance d (µT): maximum resultant on the curve around the envelope."""
     src = src or sources(layout)
@@ -131,14 +179,10 @@ def field_summary(
     d = distance_mm * MM
     sf = stray_field(src.xy_m, src.radius_m, src.currents, env, d)
     ff = far_field(src.xy_m, src.currents)
-    named = [(p.name, p.x_mm, p.y_mm) for p in layout.points]
-    place = [(f"at{i + 1}", float(x), float(y)) for i, (x, y) in enumerate(at)] + named
-    points: tuple[PointFigure, ...] = ()
-    if place:
-        xy = np.array([[x, y] for _, x, y in place], dtype=float)
-        res, mx = field_at_points_uT(src, xy)
-        points = tuple(PointFigure(nm, x, y, float(r), float(m))
-                       for (nm, x, y), r, m in zip(place, res, mx, strict=True))
+    points = _point_figures(src, [(f"at{i + 1}", float(x), float(y))
+                                  for i, (x, y) in enumerate(at)])
+    named = _point_figures(src, [(p.name, p.x_mm, p.y_mm) for p in layout.points])
+    lines = tuple(line_figure(src, ln) for ln in layout.lines)
     stray = sf.max_T * UT
     lims = [(lim.name, lim.ut, lim.source) for lim in layout.limits] + list(limits)
     figures = []
@@ -152,6 +196,8 @@ def field_summary(
         far_field_order=ff.order,
         far_field_uT_at_1m=float(ff.coefficient_T_m * UT),
         points=points,
+        named_points=named,
+        lines=lines,
         limits=tuple(figures),
         profile_s_mm=sf.s_m / MM,
         profile_uT=sf.resultant_T * UT,

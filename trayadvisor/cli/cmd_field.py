@@ -74,11 +74,15 @@ def render(path: str, layout: Layout, s: FieldSummary) -> str:
         f"  far field falls as {order}; {fmt_ut(s.far_field_uT_at_1m)} µT at 1 m "
         f"by the leading term",
     ]
-    if s.points:
+    pts = s.points + s.named_points
+    if pts:
         rows.append(f"  {'point':<14}{'x mm':>9}{'y mm':>9}{'resultant µT':>14}{'max µT':>10}")
-        for p in s.points:
+        for p in pts:
             rows.append(f"  {p.name:<14}{p.x_mm:>9.0f}{p.y_mm:>9.0f}"
                         f"{fmt_ut(p.resultant_uT):>14}{fmt_ut(p.max_uT):>10}")
+    for ln in s.lines:
+        rows.append(f"  line {ln.name}: up to {fmt_ut(ln.max_resultant_uT)} µT at "
+                    f"x={ln.max_at_mm[0]:.0f} mm, y={ln.max_at_mm[1]:.0f} mm")
     if s.limits:
         rows.append(f"  {'limit':<28}{'µT':>8}  {'clearance':>14}  at {s.distance_mm:g} mm")
         for lim in s.limits:

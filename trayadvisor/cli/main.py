@@ -31,9 +31,25 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _join_negative_values(argv: list[str]) -> list[str]:
+    """Let ``--at -200,50`` work: argparse would take ``-200,50`` for an option."""
+    out: list[str] = []
+    i = 0
+    while i < len(argv):
+        tok = argv[i]
+        nxt = argv[i + 1] if i + 1 < len(argv) else ""
+        if tok.startswith("--") and "=" not in tok and nxt[:1] == "-" and nxt[1:2].isdigit():
+            out.append(f"{tok}={nxt}")
+            i += 2
+            continue
+        out.append(tok)
+        i += 1
+    return out
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(_join_negative_values(list(sys.argv[1:] if argv is None else argv)))
     try:
         if args.command is None:
             return importlib.import_module("trayadvisor.cli.cmd_edit").run_default(args)

@@ -1,0 +1,178 @@
+"""Contract tests of `check` and `field` (SPEC.md "Command line" and "JSON shapes")."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from trayadvisor.analysis import stray_uT
+from trayadvisor.cli.main import main
+from trayadvisor.layoutfile import read_layout
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "layouts" / "demo.toml"
+
+BASE = """format = "trayadvisor/1"
+title = "contract base"
+frequency_hz = 50
+
+[[tray]]
+name = "T1"
+x_mm = 0.0
+y_mm = 0.0
+width_mm = 300.0
+depth_mm = 60.0
+
+[[circuit]]
+name = "F1"
+system = "ac3"
+current_a = 100.0
+
+[[conductor]]
+name = "A"
+circuit = "F1"
+phase = "L1"
+x_mm = 50.0
+y_mm = 15.0
+diameter_mm = 30.0
+
+[[conductor]]
+name = "B"
+circuit = "F1"
+phase = "L2"
+x_mm = 100.0
+y_mm = 15.0
+diameter_mm = 30.0
+
+[[conductor]]
+name = "C"
+circuit = "F1"
+phase = "L3"
+x_mm = 150.0
+y_mm = 15.0
+diameter_mm = 30.0
+"""
+
+
+def line_of(text: str, needle: str, occurrence: int = 1) -> int:
+    """1-based line number of the n-th line containing ``needle``."""
+    hits = [i + 1 for i, ln in enumerate(text.splitlines()) if needle in ln]
+    return hits[occurrence - 1]
+
+
+def run_cli(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_demo_checks_ok(capsys):
+    code, out, err = run_cli(capsys, "check", str(DEMO))
+    assert code == 0 and err == ""
+    assert out.count("\n") == 1 and "ok" in out and "16 conductor(s)" in out
+
+
+def test_field_json_shape_and_value(capsys):
+    code, out, _ = run_cli(capsys, "field", str(DEMO), "--distance-mm", "500", "--at", "300,900",
+                           "--at", "-200,50", "--limit-ut", "1", "--json")
+    assert code == 0
+    data = json.loads(out)
+    for key in ("distance_mm", "max_resultant_uT", "max_at_mm", "far_field_order", "points"):
+        assert key in data
+    assert data["distance_mm"] == 500.0
+    assert len(data["points"]) == 2  # one entry per --at (SPEC)
+    assert {"x_mm", "y_mm", "resultant_uT", "max_uT"} <= set(data["points"][0])
+    assert data["points"][0]["x_mm"] == 300.0
+    # the JSON figure is the same engine call the UI makes
+    assert data["max_resultant_uT"] == pytest.approx(stray_uT(read_layout(DEMO), 500.0), 1e-12)
+    lim = [x for x in data["limits"] if x["name"] == "--limit-ut"][0]
+    assert lim["pass"] is (data["max_resultant_uT"] <= 1.0)
+
+
+def test_field_human_output_names_cautions(capsys):
+    code, out, _ = run_cli(capsys, "field", str(DEMO))
+    assert code == 0
+    assert "stray field at 500 mm" in out
+    assert "Caution" in out and "licensed practice" in out
+
+
+def test_python_dash_m_and_console_script_agree():
+    res = subprocess.run([sys.executable, "-m", "trayadvisor", "check", str(DEMO)],
+                         capture_output=True, text=True)
+    assert res.returncode == 0 and "ok" in res.stdout
+
+
+# Every bad-input case of SPEC.md: (name, edit of BASE, needle marking the expected line, words)
+BAD = [
+    ("unknown top key", lambda t: t.replace('title = "contract base"',
+                                            'title = "contract base"\ncolour = 3'),
+     "colour", ["colour"]),
+    ("unknown conductor key", lambda t: t.replace("diameter_mm = 30.0\n\n[[conductor]]\nname = \"B\"",
+                                                  "diamter_mm = 30.0\n\n[[conductor]]\nname = \"B\"", 1),
+     "diamter_mm", ["diamter_mm"]),
+    ("missing key", lambda t: t.replace('phase = "L2"\n', ""), None, ["phase"]),
+    ("wrong type", lambda t: t.replace("x_mm = 100.0", 'x_mm = "100"'), 'x_mm = "100"', ["x_mm"]),
+    ("boolean as number", lambda t: t.replace("x_mm = 100.0", "x_mm = true"), "x_mm = true",
+     ["x_mm"]),
+    ("nan", lambda t: t.replace("x_mm = 100.0", "x_mm = nan"), "x_mm = nan", ["x_mm"]),
+    ("inf", lambda t: t.replace("current_a = 100.0", "current_a = inf"), "current_a = inf",
+     ["current_a"]),
+    ("negative size", lambda t: t.replace("width_mm = 300.0", "width_mm = -300.0"),
+     "width_mm", ["width_mm"]),
+    ("zero diameter", lambda t: t.replace("diameter_mm = 30.0\n\n[[conductor]]\nname = \"C\"",
+                                          "diameter_mm = 0.0\n\n[[conductor]]\nname = \"C\""),
+     "diameter_mm = 0.0", ["diameter_mm"]),
+    ("duplicate name", lambda t: t.replace('name = "B"', 'name = "A"'), 'name = "A"#2',
+     ["A", "duplicate"]),
+    ("phase not valid", lambda t: t.replace('phase = "L2"', 'phase = "+"'), 'phase = "+"',
+     ["phase"]),
+    ("missing circuit", lambda t: t.replace('circuit = "F1"\nphase = "L3"',
+                                            'circuit = "F9"\nphase = "L3"'),
+     'circuit = "F9"', ["F9"]),
+    ("overlap", lambda t: t.replace("x_mm = 100.0", "x_mm = 70.0"), None, ["overlap"]),
+    ("outside tray", lambda t: t.replace("x_mm = 150.0", "x_mm = 290.0"), None, ["tray"]),
+    ("cannot carry current", lambda t: t.replace('phase = "L2"', 'phase = "L1"'), None, ["L2"]),
+    ("wrong format", lambda t: t.replace("trayadvisor/1", "trayadvisor/9"), "format", ["format"]),
+    ("toml syntax", lambda t: t.replace("y_mm = 15.0", "y_mm = = 15.0", 1), "y_mm = = 15.0", []),
+]
+
+
+@pytest.mark.parametrize("name,edit,needle,words", BAD, ids=[b[0] for b in BAD])
+def test_bad_input_through_cli(tmp_path, capsys, name, edit, needle, words):
+    text = edit(BASE)
+    assert text != BASE, "the edit must change the file"
+    path = tmp_path / "bad.toml"
+    path.write_text(text, encoding="utf-8")
+    for argv in (["check", str(path)], ["field", str(path), "--json"]):
+        code, out, err = run_cli(capsys, *argv)
+        assert code == 2
+        assert out == ""  # nothing written on stdout
+        lines = err.strip().splitlines()
+        assert len(lines) == 1, err  # one clear line, no traceback
+        assert "Traceback" not in err
+        prefix = f"{path}:"
+        assert lines[0].startswith(prefix)
+        line_no = int(lines[0][len(prefix):].split(":", 1)[0])
+        if needle is not None:
+            n, _, occ = needle.partition("#")
+            assert line_no == line_of(text, n, int(occ or 1)), lines[0]
+        else:
+            assert line_no >= 1
+        for w in words:
+            assert w in lines[0]
+
+
+def test_missing_file_is_a_clean_error(tmp_path, capsys):
+    code, out, err = run_cli(capsys, "check", str(tmp_path / "nope.toml"))
+    assert code == 2 and out == "" and len(err.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize("argv", [["--distance-mm", "-1"], ["--at", "1;2"], ["--limit-ut", "0"],
+                                  ["--distance-mm", "nan"]])
+def test_bad_options_are_clean_errors(capsys, argv):
+    code, out, err = run_cli(capsys, "field", str(DEMO), *argv)
+    assert code == 2 and out == "" and len(err.strip().splitlines()) == 1

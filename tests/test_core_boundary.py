@@ -1,0 +1,28 @@
+"""The headless core never loads the terminal UI libraries (STYLE.md boundary)."""
+
+import subprocess
+import sys
+
+CORE = [
+    "trayadvisor.model",
+    "trayadvisor.layoutfile",
+    "trayadvisor.sources",
+    "trayadvisor.field",
+    "trayadvisor.contour",
+    "trayadvisor.analysis",
+    "trayadvisor.cli.main",
+]
+
+
+def test_core_does_not_import_textual_or_rich():
+    code = (
+        "import importlib, sys\n"
+        f"for m in {CORE!r}:\n"
+        "    importlib.import_module(m)\n"
+        "from trayadvisor.cli.main import build_parser\n"
+        "build_parser()\n"
+        "bad = sorted(k for k in sys.modules if k.split('.')[0] in ('textual', 'rich'))\n"
+        "print(','.join(bad))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
