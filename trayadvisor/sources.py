@@ -103,6 +103,10 @@ def conductor_currents(
                     r[index[c.name]] = sign * mag
                 elif c.current_a is not None:  # PE with an explicit current
                     r[index[c.name]] = c.current_a
+            if overrides and 0 in overrides:
+                for name, value in overrides[0].items():
+                    if name in index and cons[index[name]].circuit == circ.name:
+                        r[index[name]] = value
             continue
         harmonics = dict(circ.harmonics)
         orders = [1] + sorted(h for h, frac in harmonics.items() if frac > 0 and h != 1)
@@ -129,14 +133,16 @@ def conductor_currents(
                 continue
             phase_idx = [index[c.name] for c in members if c.phase in PHASE_ANGLE_DEG]
             ret = -r[phase_idx].sum()
-            explicit = [c for c in neutrals if h == 1 and c.current_a is not None]
+            overridden = [c for c in neutrals
+                          if overrides and h in overrides and c.name in overrides[h]]
+            explicit = [c for c in neutrals if h == 1 and c.current_a is not None
+                        and c not in overridden]
             for c in explicit:
                 phi = c.angle_deg if c.angle_deg is not None else float(np.angle(ret, deg=True))
                 r[index[c.name]] = _polar(c.current_a, phi)
-            free = [c for c in neutrals if c not in explicit
-                    and not (overrides and h in overrides and c.name in overrides[h])]
+            free = [c for c in neutrals if c not in explicit and c not in overridden]
             if free:
-                rest = ret - sum(r[index[c.name]] for c in explicit)
+                rest = ret - sum(r[index[c.name]] for c in explicit + overridden)
                 for c in free:
                     r[index[c.name]] = rest / len(free)
     return out
