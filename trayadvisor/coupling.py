@@ -202,7 +202,7 @@ def induced_emf(layout: Layout, length_m: float | None = None,
     overrides : optional
         Solved currents (:func:`sharing_overrides`) instead of equal shares.
     earth_y_mm : float, optional
-        Earth reference height, mm; defaults to ``layout.extra["earth_y_mm"]`` when present.
+        Earth reference height, mm; defaults to the layout's ``earth_y_mm`` key when present.
         Adds the screen/earth loop figures.
 
     Returns
@@ -225,7 +225,7 @@ def induced_emf(layout: Layout, length_m: float | None = None,
     if not plan.victims:
         return []
     if earth_y_mm is None:
-        earth_y_mm = layout.extra.get("earth_y_mm")
+        earth_y_mm = layout.earth_y_mm
     src = sources(layout, overrides)
     omega = 2.0 * np.pi * src.frequency_hz
     xy = src.xy_m
@@ -329,7 +329,7 @@ def coupling_summary(layout: Layout, length_m: float | None = None, sharing: boo
     shares = solve_sharing(layout, temperature_c)
     overrides = shares.overrides() if sharing else None
     if earth_y_mm is None:
-        earth_y_mm = layout.extra.get("earth_y_mm")
+        earth_y_mm = layout.earth_y_mm
     victims = induced_emf(layout, length_m, overrides, earth_y_mm)
     names, m = loop_inductance_matrix(layout)
     notes: list[str] = ["R' is the DC resistance (skin and proximity effect left out)"]

@@ -75,7 +75,7 @@ _SCHEMA: dict[str, tuple[type, str, _Schema]] = {
         "name": ("str", True), "ut": ("num", True), "source": ("str", False)}),
 }
 _TOP: _Schema = {"format": ("str", True), "title": ("str", False),
-                 "frequency_hz": ("num", False)}
+                 "frequency_hz": ("num", False), "earth_y_mm": ("num", False)}
 _TOP_KEYS = (*_TOP, *_SCHEMA)
 _EXAMPLE = {"str": '"text"', "num": "1.0", "int": "101", "bool": "true",
             "harm": "{ 3 = 0.05, 5 = 0.20 }"}
@@ -348,6 +348,8 @@ def dumps_layout(layout: Layout) -> str:
     if layout.title:
         out.append(f"title = {_toml_str(layout.title)}")
     out.append(f"frequency_hz = {_toml_value(layout.frequency_hz, 'num')}")
+    if layout.earth_y_mm is not None:
+        out.append(f"earth_y_mm = {_toml_value(layout.earth_y_mm, 'num')}")
     for kind, (cls, attr, schema) in _SCHEMA.items():
         defaults = _defaults(cls)
         for obj in getattr(layout, attr):

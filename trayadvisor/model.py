@@ -146,6 +146,7 @@ class Layout:
     points: tuple[ObservationPoint, ...] = ()
     lines: tuple[ObservationLine, ...] = ()
     limits: tuple[Limit, ...] = ()
+    earth_y_mm: float | None = None  # height of an earth reference plane (coupling), mm
     extra: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
 
     # -- look-ups -------------------------------------------------------------------------

@@ -85,6 +85,8 @@ class _Checks:
 def _stage_values(ck: _Checks) -> None:
     lay = ck.layout
     ck.number(("frequency_hz",), "layout", lay.frequency_hz, "Hz >0")
+    if lay.earth_y_mm is not None:
+        ck.number(("earth_y_mm",), "layout", lay.earth_y_mm, "mm")
     for kind, attr in _KINDS.items():
         for i, item in enumerate(getattr(lay, attr)):
             if not isinstance(item.name, str) or not item.name.strip():
