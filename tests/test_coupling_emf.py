@@ -134,7 +134,7 @@ def test_earth_loop_uses_vector_potential_down_to_the_earth_plane():
     assert v.earth_loop_V == pytest.approx(v.earth_loop_mV_per_m * 1e-2, rel=1e-12)
     no_earth = induced_emf(lay)[0]
     assert no_earth.earth_loop_mV_per_m is None
-    lay.extra["earth_y_mm"] = -100.0  # a layout may carry the earth reference itself
+    lay = replace(lay, earth_y_mm=-100.0)  # the layout's own earth reference
     assert induced_emf(lay)[0].earth_loop_mV_per_m == v.earth_loop_mV_per_m
 
 
