@@ -152,7 +152,32 @@ def sources(
     layout: Layout,
     overrides: Mapping[int, Mapping[str, complex]] | None = None,
 ) -> Sources:
-    """The layout's conductors as SI arrays with their current phasors (see module notes)."""
+    """The layout's conductors as SI arrays with their current phasors.
+
+    Parameters
+    ----------
+    layout : Layout
+    overrides : mapping order -> {conductor name -> phasor (A)}, optional
+        Solved currents replacing the equal shares at that component (order 0 = DC).
+
+    Returns
+    -------
+    Sources
+        ``xy_m (n, 2)`` m, ``radius_m (n,)`` m, ``orders (H,)``, ``frequency_hz (H,)`` Hz and
+        ``currents (H, n)`` complex RMS A, in layout conductor order; one row (the
+        fundamental, all zero) when nothing carries current.
+
+    Notes
+    -----
+    Conventions in the module notes: I_h = I_1 · fraction_h at angle h·φ, φ = 0°, −120°,
+    +120° for L1, L2, L3; a neutral carries −Σ of its circuit's phases at every h; DC
+    is the real current ±I at order 0.
+
+    References
+    ----------
+    Phase sequence and harmonic sequences: common practice (symmetrical components);
+    the neutral return: Kirchhoff's current law.
+    """
     cons = layout.conductors
     n = len(cons)
     xy = np.array([[c.x_mm, c.y_mm] for c in cons], dtype=float).reshape(n, 2) * MM
