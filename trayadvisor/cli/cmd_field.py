@@ -7,7 +7,6 @@ import argparse
 from trayadvisor.analysis import DEFAULT_DISTANCE_MM, FieldSummary, field_summary
 from trayadvisor.cli.common import (
     CAUTION_LINE,
-    UserError,
     fmt_mm,
     fmt_ut,
     load,

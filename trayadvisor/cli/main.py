@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from trayadvisor import __version__
 from trayadvisor.cli.common import CAUTION_LINE, UserError
 
-COMMANDS: tuple[str, ...] = ("edit", "check", "field")
+COMMANDS: tuple[str, ...] = ("edit", "check", "field", "report", "limits", "couple", "rank")
 
 
 def build_parser() -> argparse.ArgumentParser:

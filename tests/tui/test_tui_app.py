@@ -1,0 +1,222 @@
+"""The terminal UI driven through the real app and the Pilot at 80x24."""
+
+from __future__ import annotations
+
+import math
+
+from tuihelpers import SIZE, canvas_text, settle, text_of
+
+from trayadvisor.analysis import field_summary, stray_uT
+from trayadvisor.cli.common import fmt_ut
+from trayadvisor.layoutfile import read_layout
+from trayadvisor.tui import make_app
+from trayadvisor.tui.screens.field import FieldScreen
+from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm
+from trayadvisor.tui.screens.help import CAUTIONS, HelpScreen
+from trayadvisor.tui.screens.section import SectionScreen
+from trayadvisor.tui.settings import TYPED_LIMIT
+from trayadvisor.tui.widgets.canvas import SectionCanvas
+
+
+async def test_demo_opens_with_drawing_list_and_readout() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        assert isinstance(app.screen, SectionScreen)
+        assert app.document.label == "built-in demo" and not app.document.dirty
+        drawing = canvas_text(app)
+        assert "┌P1" in drawing and "┘" in drawing          # the demo's power tray
+        assert "A1" in drawing                              # circuit A, phase L1
+        items = app.screen.query_one("#items")
+        assert items.option_count == len(app.document.layout.conductors) + len(
+            app.document.layout.circuits) + len(app.document.layout.trays)
+        d = app.settings.distance_mm
+        want = stray_uT(app.document.layout, d)
+        assert fmt_ut(want) in text_of(app, "#readout")
+        assert "layout valid" in text_of(app, "#status") or "Caution" in text_of(app, "#status")
+
+
+async def test_moving_a_conductor_updates_the_readout_to_the_engine_value() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        layout0 = app.document.layout
+        name = app.document.selected
+        before = app.summary.max_resultant_uT
+        for _ in range(6):
+            await pilot.press("right")                      # fine step: 5 mm each
+        await settle(app, pilot)
+        lay = app.document.layout
+        i = lay.conductor_index(name)
+        assert math.isclose(lay.conductors[i].x_mm, layout0.conductors[i].x_mm + 30.0)
+        d = app.settings.distance_mm
+        # The figure on show is what the engine gives for the app's current model.
+        assert app.summary.max_resultant_uT == stray_uT(lay, d)
+        assert app.summary.max_at_mm == field_summary(lay, d).max_at_mm
+        assert app.summary.max_resultant_uT != before
+        assert fmt_ut(stray_uT(lay, d)) in text_of(app, "#readout")
+        assert not app.results_pending()
+        # shift+arrow moves by one diameter
+        await pilot.press("shift+up")
+        await settle(app, pilot)
+        c = app.document.layout.conductors[i]
+        assert math.isclose(c.y_mm, layout0.conductors[i].y_mm + c.diameter_mm)
+
+
+async def test_field_view_shows_map_contour_and_readouts_in_step() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("2")
+        await settle(app, pilot)
+        view = app.screen
+        assert isinstance(view, FieldScreen) and view.map_current
+        assert "·" in canvas_text(app) and "×" in canvas_text(app)
+        await pilot.press("left", "left")
+        await settle(app, pilot)
+        assert view.map_current                             # map redone for the new model
+        lay, d = app.document.layout, app.settings.distance_mm
+        s = field_summary(lay, d)
+        shown = text_of(app, "#readout")
+        assert fmt_ut(s.max_resultant_uT) in shown
+        assert f"x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f}" in shown
+        lim = app.chosen_limit()
+        fig = field_summary(lay, d, limits=[(lim.name, lim.ut, lim.source)]).limits[-1]
+        assert ("PASS" if fig.passes else "FAIL") in shown
+        assert app.figure_for(lim).clearance_mm == fig.clearance_mm
+        await pilot.press("m")                              # shade map: glyphs and digits
+        await settle(app, pilot)
+        assert app.settings.map_style == "shade"
+        assert any(g in canvas_text(app) for g in "░▒▓█")
+        assert "iso 1=" in text_of(app, "#legend")
+
+
+async def test_edit_through_the_form_then_undo_and_redo() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        name = app.document.selected
+        i = app.document.layout.conductor_index(name)
+        old = app.document.layout.conductors[i].diameter_mm
+        await pilot.press("e")
+        form = app.screen
+        assert isinstance(form, ConductorForm)
+        dia = form.query_one("#dia")
+        dia.value = "-3"
+        dia.focus()
+        await pilot.press("enter")
+        assert app.screen is form                           # refused, with the reason
+        assert "diameter" in text_of(app, "#form-error")
+        dia.value = "31.5"
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert isinstance(app.screen, SectionScreen)
+        assert app.document.layout.conductors[i].diameter_mm == 31.5
+        assert app.document.dirty
+        await pilot.press("u")
+        await settle(app, pilot)
+        assert app.document.layout.conductors[i].diameter_mm == old
+        assert not app.document.dirty
+        assert "undone" in text_of(app, "#status")
+        await pilot.press("ctrl+r")
+        await settle(app, pilot)
+        assert app.document.layout.conductors[i].diameter_mm == 31.5
+
+
+async def test_add_copy_delete_keep_list_and_drawing_in_step() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        n0 = len(app.document.layout.conductors)
+        await pilot.press("c")                              # copy the selection
+        await settle(app, pilot)
+        lay = app.document.layout
+        assert len(lay.conductors) == n0 + 1
+        assert app.document.selected in {c.name for c in lay.conductors}
+        items = app.screen.query_one("#items")
+        assert items.get_option_at_index(items.highlighted).id == f"k:{app.document.selected}"
+        await pilot.press("x")                              # delete it again
+        await settle(app, pilot)
+        assert len(app.document.layout.conductors) == n0
+        await pilot.press("a")                              # add through the form
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert len(app.document.layout.conductors) == n0 + 1
+        await pilot.press("right_square_bracket")           # selection walks the list
+        await settle(app, pilot)
+        sel = app.document.selected
+        assert items.get_option_at_index(items.highlighted).id == f"k:{sel}"
+
+
+async def test_help_lists_keys_and_cautions() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("question_mark")
+        assert isinstance(app.screen, HelpScreen)
+        text = app.screen.text().plain
+        assert CAUTIONS in text
+        for bid in ("file.save", "edit.undo", "edit.add", "view.field", "app.quit"):
+            assert f"[{bid}]" in text
+        await pilot.press("escape")
+        assert isinstance(app.screen, SectionScreen)
+
+
+async def test_settings_change_distance_and_typed_limit() -> None:
+    app = make_app(limit_ut=0.5)
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        assert app.chosen_limit().name == TYPED_LIMIT and app.chosen_limit().ut == 0.5
+        await pilot.press("d")
+        field = app.screen.query_one("#distance")
+        field.value = "800"
+        field.focus()
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert app.settings.distance_mm == 800.0
+        assert app.summary.max_resultant_uT == stray_uT(app.document.layout, 800.0)
+        assert "d 800 mm" in text_of(app, "#readout")
+
+
+async def test_canvas_zoom_pan_fit() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        canvas = app.screen.query_one(SectionCanvas)
+        s0 = canvas.viewport.mm_per_col
+        await pilot.press("plus", "plus")
+        assert math.isclose(canvas.viewport.mm_per_col, s0 / 2)
+        cx = canvas.viewport.cx_mm
+        await pilot.press("l")
+        assert canvas.viewport.cx_mm > cx
+        await pilot.press("0")
+        assert math.isclose(canvas.viewport.mm_per_col, s0)
+
+
+def test_read_back_is_the_same_file_the_cli_reads(demo_copy) -> None:
+    """The app opens files with the same reader as `trayadvisor check`."""
+    app = make_app(demo_copy)
+    assert app.document.layout == read_layout(demo_copy)
+
+
+async def test_list_picks_conductors_and_edits_a_circuit() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        await pilot.press("tab")                            # focus the list
+        assert app.focused is app.screen.query_one("#items")
+        await pilot.press("down")                           # next row: the next conductor
+        await settle(app, pilot)
+        assert app.document.selected == app.document.layout.conductors[1].name
+        assert f"▸2 {app.document.selected}" in str(
+            app.screen.query_one("#items").get_option(f"k:{app.document.selected}").prompt)
+        await pilot.press("up", "up")                       # the circuit row
+        await pilot.press("enter")
+        form = app.screen
+        assert isinstance(form, CircuitForm)
+        form.query_one("#current").value = "700"
+        form.query_one("#current").focus()
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert app.document.layout.circuit("F1").current_a == 700.0
+        await pilot.press("u")
+        await settle(app, pilot)
+        assert app.document.layout.circuit("F1").current_a == 630.0

@@ -1,0 +1,72 @@
+"""``trayadvisor limits``: the limits library (and a layout's own limits) as a table or JSON."""
+
+from __future__ import annotations
+
+import argparse
+
+from trayadvisor.cli.common import load, positive, print_json
+from trayadvisor.limits import LIBRARY, LibraryLimit
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    p = sub.add_parser("limits", help="list the limits library: name, µT, frequency range, source")
+    p.add_argument("file", nargs="?", metavar="FILE",
+                   help="also list this layout's own [[limit]] entries, at its frequency")
+    p.add_argument("--frequency-hz", type=float, default=None, metavar="F",
+                   help="only levels valid at F, with their value there")
+    p.add_argument("--json", action="store_true", help="print the library as JSON")
+    p.set_defaults(run=run)
+
+
+def _value(lim: LibraryLimit, f: float) -> float | None:
+    return lim.value_ut(f) if lim.valid_at(f) else None
+
+
+def _row(lim: LibraryLimit, f: float | None) -> dict:
+    row = {"name": lim.name, "formula_uT": lim.formula(), "f_min_hz": lim.f_min_hz,
+           "f_max_hz": lim.f_max_hz, "uT_at_50hz": _value(lim, 50.0),
+           "uT_at_60hz": _value(lim, 60.0), "source": lim.source, "checked": lim.checked,
+           "note": lim.note}
+    if f is not None:
+        row["uT"] = lim.value_ut(f)
+    return row
+
+
+def _cell(v: float | str | None) -> str:
+    if v is None:
+        return "-"
+    if isinstance(v, str):
+        return v
+    return f"{v:.0f}" if v >= 1e4 else f"{v:.4g}"
+
+
+def run(args: argparse.Namespace) -> int:
+    f = args.frequency_hz
+    layout = load(args.file) if args.file else None
+    if f is None and layout is not None:
+        f = layout.frequency_hz
+    if f is not None:
+        positive("--frequency-hz", f)
+    rows = [_row(lim, f) for lim in LIBRARY if f is None or lim.valid_at(f)]
+    own = [{"name": lim.name, "uT": lim.ut, "source": lim.source}
+           for lim in (layout.limits if layout else ())]
+    if args.json:
+        print_json({"frequency_hz": f, "library": rows, "layout": own})
+        return 0
+    cols = [f"at {f:g} Hz"] if f is not None else ["µT", "50 Hz", "60 Hz"]
+    print(f"{'name':<28}" + "".join(f"{c:>9}" for c in cols) + f"  {'Hz':<8} value")
+    for r in rows:
+        vals = ([r["uT"]] if f is not None else [r["formula_uT"], r["uT_at_50hz"],
+                                                 r["uT_at_60hz"]])
+        rng = f"{r['f_min_hz']:g}-{r['f_max_hz']:g}"
+        print(f"{r['name']:<28}" + "".join(f"{_cell(v):>9}" for v in vals)
+              + f"  {rng:<8} {'checked' if r['checked'] else 'RECALLED'}")
+        print(f"    {r['source']}")
+    for r in own:
+        pad = "" if f is not None else " " * 18
+        print(f"{r['name'][:27]:<28}{_cell(r['uT']):>9}{pad}  {'layout':<8} -")
+        print(f"    {r['source']}")
+    print("RECALLED: value not checked against the cited document; check your own copy.\n"
+          "Levels are RMS flux density in µT; IEC 61000-4-8 levels are converted from A/m\n"
+          "with B = µ0·H. A field with harmonics needs the documents' multi-frequency rules.")
+    return 0

@@ -1,0 +1,1 @@
+"""Modal and top-level screens of the terminal UI."""

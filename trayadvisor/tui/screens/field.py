@@ -1,0 +1,148 @@
+"""The Field view: a heat map of the resultant field around the tray, the contour at d, the
+readouts and the legend. The map grid is computed in a worker thread for exactly the
+canvas window; while a new one is on its way the last one is shown, resampled."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.message import Message
+from textual.worker import get_current_worker
+
+from trayadvisor.model import Layout
+from trayadvisor.tui.compute import map_grid
+from trayadvisor.tui.mapscale import MapScale
+from trayadvisor.tui.scene import FieldMap
+from trayadvisor.tui.screens.editing import EditingScreen
+from trayadvisor.tui.viewport import Viewport
+from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
+from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend
+
+
+@dataclass(frozen=True)
+class _GridKey:
+    document: int
+    generation: int
+    viewport: Viewport
+
+
+class FieldScreen(EditingScreen):
+    """Watch the field while editing: same canvas and keys as Section, with the map."""
+
+    VIEW_NAME = "field"
+    BINDINGS = [Binding("m", "map_style", "Map style", show=False, id="map.style",
+                tooltip="map: colour, or shading + iso digits")]
+
+    class GridReady(Message):
+        def __init__(self, key: _GridKey, values: np.ndarray) -> None:
+            super().__init__()
+            self.key, self.values = key, values
+
+        def can_replace(self, message: Message) -> bool:
+            return isinstance(message, type(self))  # only the newest map matters
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.grid_key: _GridKey | None = None  #: key of the map on show
+        self._grid: tuple[_GridKey, np.ndarray] | None = None
+        self._wanted: _GridKey | None = None
+        self._fmap: FieldMap | None = None
+
+    def compose_body(self) -> ComposeResult:
+        yield SectionCanvas(id="canvas", classes="map")
+        with Vertical(id="side"):
+            yield FieldReadout(id="readout")
+            yield MapLegend(id="legend")
+
+    def on_mount(self) -> None:
+        super().on_mount()
+        self.query_one(SectionCanvas).focus()
+
+    def fit_bounds(self) -> tuple[float, float, float, float]:
+        """Fit shows the curve at distance d all round, with room outside it."""
+        x0, y0, x1, y1 = super().fit_bounds()
+        d = max(self.tapp.settings.distance_mm, 0.05 * max(x1 - x0, y1 - y0, 1.0))
+        m = 1.15 * d
+        return (x0 - m, y0 - m, x1 + m, y1 + m)
+
+    def scale(self) -> MapScale:
+        s = self.tapp.summary
+        return MapScale.around(s.max_resultant_uT if s is not None else float("nan"))
+
+    def canvas_content(self) -> CanvasContent:
+        base = super().canvas_content()
+        fmap = None
+        if self._grid is not None:
+            key, values = self._grid
+            scale = self.scale()
+            fmap = self._fmap
+            if fmap is None or fmap.values_uT is not values or fmap.scale != scale:
+                fmap = self._fmap = FieldMap(key.viewport.bounds_mm, values, scale)
+        return CanvasContent(base.layout, base.selected, fmap, self.tapp.settings.map_style,
+                             base.contour_mm, base.peak_mm)
+
+    def document_changed(self, moved: bool) -> None:
+        super().document_changed(moved)
+        self.request_grid()
+
+    def results_changed(self) -> None:
+        super().results_changed()
+        app = self.tapp
+        lim = app.chosen_limit()
+        self.query_one(FieldReadout).show(app.summary, lim, app.figure_for(lim),
+                                          app.results_pending())
+        self.query_one(MapLegend).show(self.scale(), app.settings.map_style)
+
+    def settings_changed(self) -> None:
+        super().settings_changed()
+        self.update_bars()
+        self.query_one(SectionCanvas).set_fit_bounds(self.fit_bounds())
+
+    def action_map_style(self) -> None:
+        app = self.tapp
+        style = "shade" if app.settings.map_style == "colour" else "colour"
+        app.set_settings(replace(app.settings, map_style=style))
+
+    # -- the map worker ---------------------------------------------------------------------
+    @on(SectionCanvas.ViewportChanged)
+    def _viewport(self, event: SectionCanvas.ViewportChanged) -> None:
+        self.request_grid()
+
+    def request_grid(self) -> None:
+        canvas = self.query_one(SectionCanvas)
+        vp = canvas.viewport
+        if vp.cols < 2 or vp.rows < 2 or canvas.size.width == 0:
+            return
+        doc = self.tapp.document
+        key = _GridKey(self.tapp.document_serial, doc.generation, vp)
+        if key in (self._wanted, self.grid_key):
+            return
+        self._wanted = key
+        self._compute_grid(key, doc.layout)
+
+    @work(thread=True, exclusive=True, group="map", exit_on_error=False)
+    def _compute_grid(self, key: _GridKey, layout: Layout) -> None:
+        worker = get_current_worker()
+        values = map_grid(layout, key.viewport)
+        if not worker.is_cancelled:
+            self.post_message(self.GridReady(key, values))
+
+    @on(GridReady)
+    def _grid_ready(self, event: GridReady) -> None:
+        if event.key != self._wanted:
+            return
+        self._grid = (event.key, event.values)
+        self.grid_key = event.key
+        self.redraw_canvas()
+
+    @property
+    def map_current(self) -> bool:
+        """True when the map on show is for the current model and window."""
+        doc = self.tapp.document
+        vp = self.query_one(SectionCanvas).viewport
+        return self.grid_key == _GridKey(self.tapp.document_serial, doc.generation, vp)

@@ -1,0 +1,81 @@
+"""The help screen: the views, every key with its binding id, and the cautions."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.widgets import Static
+
+from trayadvisor.cli.common import CAUTION_LINE
+from trayadvisor.tui.screens.dialogs import Dialog
+
+#: The full cautions (the product specification's "Cautions").
+CAUTIONS = (
+    "The figures come from an idealised model: long straight conductors in free space, no "
+    "steel or aluminium trays, covers or building steel, no induced currents in screens or "
+    "structures. Measure installed fields (IEC 61786 describes how). trayadvisor does not "
+    "check ampacity, grouping derating, voltage drop, fault withstand, tray loading or "
+    "segregation distances: defer to the local wiring rules and to licensed practice. "
+    "People with active implanted medical devices may be affected at levels far below the "
+    "general exposure reference levels."
+)
+
+GLYPHS = (
+    "Conductors: circuit tag + phase glyph, e.g. A1 = circuit A, phase L1 "
+    "(1 2 3 = L1 L2 L3, n = N, e = PE, L = single-phase L, + − = DC, a b = signal). "
+    "When conductors are close only the phase glyph shows; zoom in (+) for tags. "
+    "The selected conductor is highlighted, its circuit underlined. "
+    "· = the curve at distance d outside the tray envelope, × = where the field on it "
+    "peaks. The Field map shades the resultant RMS field on a log scale; digits 1-4 mark "
+    "the iso-levels named in the legend."
+)
+
+
+class HelpScreen(Dialog[None]):
+    """Keys and cautions; Escape, q or ? closes."""
+
+    BINDINGS = [Binding("escape,q,question_mark,f1", "close", "Close", id="help.close")]
+
+    def __init__(self, views: Sequence[tuple[str, str, str]],
+                 keys: Sequence[tuple[str, str, str]]) -> None:
+        """``views``: (key, title, description); ``keys``: (keys, description, id)."""
+        super().__init__()
+        self.views, self.keys = views, keys
+
+    def text(self) -> Text:
+        t = Text()
+        t.append("trayadvisor: cable-tray conductor layout for low stray field\n\n",
+                 style="bold")
+        t.append("CAUTIONS\n", style="bold")
+        t.append(CAUTIONS + "\n\n")
+        t.append("Views\n", style="bold")
+        for key, title, desc in self.views:
+            t.append(f"  {key:<6} {title:<9} {desc}\n")
+        t.append("\nKeys (binding id in brackets; override them in the keymap file)\n",
+                 style="bold")
+        for keys, desc, bid in self.keys:
+            t.append(f"  {keys:<12} {desc:<40} [{bid}]\n")
+        t.append("\n  The arrows move the selected conductor when the drawing has the focus.\n"
+                 "  Tab moves the focus between the drawing and the list; in the list ↑↓ "
+                 "select and Enter edits the conductor, circuit or tray.\n"
+                 "  In the Field view, m switches the map between colour and shading.\n\n")
+        t.append("Drawing\n", style="bold")
+        t.append(GLYPHS + "\n\n")
+        t.append(CAUTION_LINE + "\n")
+        return t
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog help"):
+            yield Static("Help  (Esc closes)", classes="form-title")
+            with VerticalScroll(id="help-body"):
+                yield Static(self.text(), id="help-text")
+
+    def on_mount(self) -> None:
+        self.query_one("#help-body").focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

@@ -1,0 +1,1 @@
+"""Thin widgets of the terminal UI: they draw and post messages, never compute fields."""

@@ -1,0 +1,265 @@
+"""Thin panels around the canvas: the view bar, the status line, the circuit and conductor
+list, the selection details, the field readouts and the map legend.
+
+Each one shows what its screen hands it and posts a message for what the user picks;
+numbers come from :mod:`trayadvisor.analysis` results computed elsewhere.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from rich.text import Text
+from textual.message import Message
+from textual.widgets import OptionList, Static
+from textual.widgets.option_list import Option
+
+from trayadvisor.analysis import FieldSummary, LimitFigure
+from trayadvisor.cli.cmd_field import ORDER_WORDS
+from trayadvisor.cli.common import fmt_mm, fmt_ut
+from trayadvisor.model import Conductor, Layout, Limit
+from trayadvisor.tui.mapscale import DECADES, MapScale, fmt_level, palette
+from trayadvisor.tui.scene import PHASE_GLYPH, circuit_tags
+
+
+def order_text(order: int | None) -> str:
+    """Far-field decay in words, as the CLI prints it."""
+    if not order:
+        return "no field"
+    return ORDER_WORDS.get(order, f"1/r^{order}")
+
+
+class ViewBar(Static):
+    """One line: the views with their keys (the current one bracketed) and the file."""
+
+    def show(self, views: Sequence[tuple[str, str, str]], current: str, label: str,
+             dirty: bool, note: str = "") -> None:
+        """``views``: (key, title, name) each; ``current``: the shown view's name."""
+        t = Text(no_wrap=True, overflow="ellipsis")
+        for key, title, name in views:
+            if name == current:
+                t.append(f"[{key} {title}]", style="bold reverse")
+            else:
+                t.append(f" {key} {title} ")
+            t.append(" ")
+        t.append("│ ")
+        t.append(label, style="bold")
+        if dirty:
+            t.append(" * modified", style="bold")
+        if note:
+            t.append(f" │ {note}")
+        self.update(t, layout=False)
+
+
+class StatusLine(Static):
+    """One line under the views: the last action's message, else the layout's problems."""
+
+    def show(self, message: str, problems: Sequence[str], level: str = "info") -> None:
+        t = Text(no_wrap=True, overflow="ellipsis")
+        if message:
+            mark = {"error": "✖ ", "warning": "! "}.get(level, "")
+            t.append(mark + message, style="bold" if level != "info" else "")
+        elif problems:
+            n = len(problems)
+            t.append(f"! {n} problem{'s' if n > 1 else ''}: ", style="bold")
+            first = problems[0].split(": ", 2)[-1]
+            t.append(first)
+        else:
+            t.append("layout valid · figures from an idealised model: ? for the cautions")
+        self.update(t, layout=False)
+
+
+class ConductorList(OptionList):
+    """Circuits with their conductors, then trays; the highlight follows the selection."""
+
+    class Picked(Message):
+        """The highlight moved to a conductor (``kind`` "conductor") or another row."""
+
+        def __init__(self, kind: str, name: str) -> None:
+            super().__init__()
+            self.kind, self.name = kind, name
+
+    class EditRequested(Message):
+        """Enter on a row: edit that conductor, circuit or tray."""
+
+        def __init__(self, kind: str, name: str) -> None:
+            super().__init__()
+            self.kind, self.name = kind, name
+
+    _KINDS = {"k": "conductor", "c": "circuit", "t": "tray"}
+
+    def __init__(self, *, id: str | None = None) -> None:
+        super().__init__(id=id)
+        self._ids: list[str] = []
+        self._prompts: list[str] = []
+        self._quiet = False
+
+    @staticmethod
+    def rows(layout: Layout, selected: str | None = None) -> list[tuple[str, str]]:
+        """(option id, text) of every row; ``▸`` marks the selected conductor."""
+        tags = circuit_tags(layout)
+        out: list[tuple[str, str]] = []
+
+        def row(c: Conductor, glyph: str) -> tuple[str, str]:
+            mark = "▸" if c.name == selected else " "
+            return (f"k:{c.name}", f"{mark}{glyph} {c.name:<10.10} {c.x_mm:>5.0f}"
+                    f"{c.y_mm:>5.0f}")
+
+        for circ in layout.circuits:
+            amps = "" if circ.system == "signal" else f" {circ.current_a:g} A"
+            out.append((f"c:{circ.name}", f"{tags[circ.name]} {circ.name} {circ.system}{amps}"))
+            out += [row(c, PHASE_GLYPH.get(c.phase, "?")) for c in layout.conductors_of(circ.name)]
+        known = {c.name for c in layout.circuits}
+        out += [row(c, "?") for c in layout.conductors if c.circuit not in known]
+        for t in layout.trays:
+            out.append((f"t:{t.name}", f"tray {t.name} {t.width_mm:g}×{t.depth_mm:g}"))
+        return out
+
+    def show(self, layout: Layout, selected: str | None) -> None:
+        rows = self.rows(layout, selected)
+        ids = [i for i, _ in rows]
+        prompts = [p for _, p in rows]
+        self._quiet = True
+        try:
+            if ids != self._ids:
+                self.set_options([Option(p, id=i) for i, p in rows])
+            else:
+                for i, (old, new) in enumerate(zip(self._prompts, prompts, strict=True)):
+                    if old != new:
+                        self.replace_option_prompt_at_index(i, new)
+            self._ids, self._prompts = ids, prompts
+            want = f"k:{selected}" if selected else None
+            if want in ids and self.highlighted != ids.index(want):
+                self.highlighted = ids.index(want)
+        finally:
+            self.call_after_refresh(self._unquiet)
+
+    def _unquiet(self) -> None:
+        self._quiet = False
+
+    def _split(self, option_id: str | None) -> tuple[str, str] | None:
+        if not option_id or ":" not in option_id:
+            return None
+        kind, name = option_id.split(":", 1)
+        return self._KINDS.get(kind, kind), name
+
+    def on_option_list_option_highlighted(self, event: OptionList.OptionHighlighted) -> None:
+        event.stop()
+        picked = self._split(event.option.id)
+        if picked and not self._quiet:
+            self.post_message(self.Picked(*picked))
+
+    def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
+        event.stop()
+        picked = self._split(event.option.id)
+        if picked:
+            self.post_message(self.EditRequested(*picked))
+
+
+class SelectionInfo(Static):
+    """The selected conductor's circuit, phase, size and position."""
+
+    def show(self, layout: Layout, selected: str | None, step_mm: float) -> None:
+        if selected is None:
+            self.update("No conductor. a adds one.", layout=False)
+            return
+        c = layout.conductors[layout.conductor_index(selected)]
+        tag = circuit_tags(layout).get(c.circuit, "?")
+        glyph = PHASE_GLYPH.get(c.phase, "?")
+        extra = []
+        if c.current_a is not None:
+            extra.append(f"{c.current_a:g} A set")
+        if c.fixed:
+            extra.append("fixed")
+        extra_text = ("  " + ", ".join(extra)) if extra else ""
+        self.update(Text.assemble(
+            (f"{c.name}", "bold"), f"  [{tag}{glyph}]\n",
+            f"{c.circuit} {c.phase}  ⌀{c.diameter_mm:g} mm{extra_text}\n",
+            f"x {c.x_mm:g}  y {c.y_mm:g} mm  step {step_mm:g}",
+            no_wrap=True, overflow="ellipsis"), layout=False)
+
+
+def readout_lines(summary: FieldSummary | None, limit: Limit | None,
+                  figure: LimitFigure | None, pending: bool) -> list[tuple[str, str]]:
+    """(text, style) lines of the field readouts; ``pending``: the figure is older than the
+    model (a newer one is being computed)."""
+    if summary is None:
+        return [("computing the field…", "")]
+    s = summary
+    lines = [(f"Stray field at d = {s.distance_mm:g} mm", "bold"),
+             (f" {fmt_ut(s.max_resultant_uT)} µT resultant RMS", "bold"),
+             (f" peak at x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f} mm", ""),
+             (f"Far field {order_text(s.far_field_order)}", ""),
+             (f" {fmt_ut(s.far_field_uT_at_1m)} µT at 1 m (lead term)", "")]
+    if limit is None:
+        lines.append(("No limit chosen (d sets one)", ""))
+        return lines
+    lines.append((f"Limit {limit.name}", "bold"))
+    wait = " …" if pending or figure is None else ""
+    if figure is None:
+        lines.append((f" {fmt_ut(limit.ut)} µT  checking…", ""))
+        return lines
+    verdict = "PASS" if figure.passes else "FAIL"
+    lines.append((f" {fmt_ut(limit.ut)} µT  {verdict} at d{wait}", "bold"))
+    lines.append((f" clearance {fmt_mm(figure.clearance_mm)}", ""))
+    return lines
+
+
+class FieldReadout(Static):
+    """Stray field at d, where it peaks, far-field order, the chosen limit's verdict."""
+
+    def show(self, summary: FieldSummary | None, limit: Limit | None,
+             figure: LimitFigure | None, pending: bool = False) -> None:
+        t = Text(no_wrap=True, overflow="ellipsis")
+        for k, (line, style) in enumerate(readout_lines(summary, limit, figure, pending)):
+            if k:
+                t.append("\n")
+            t.append(line, style=style)
+        self.update(t, layout=False)
+
+
+    def show_brief(self, summary: FieldSummary | None, limit: Limit | None,
+                   figure: LimitFigure | None, pending: bool = False) -> None:
+        """Three lines for the Section view: stray field at d, verdict, far-field order."""
+        t = Text(no_wrap=True, overflow="ellipsis")
+        if summary is None:
+            self.update("computing the field…", layout=False)
+            return
+        t.append(f"d {summary.distance_mm:g} mm: {fmt_ut(summary.max_resultant_uT)} µT\n",
+                 style="bold")
+        if limit is None:
+            t.append("no limit chosen (d)")
+        elif figure is None:
+            t.append(f"{fmt_ut(limit.ut)} µT {limit.name}: checking…")
+        else:
+            wait = " …" if pending else ""
+            t.append(f"{'PASS' if figure.passes else 'FAIL'}{wait}", style="bold")
+            t.append(f" {fmt_ut(limit.ut)} µT {limit.name}")
+        t.append(f"\nfar field {order_text(summary.far_field_order)}")
+        self.update(t, layout=False)
+
+
+class MapLegend(Static):
+    """The map key in µT: shading glyphs (or colours) and iso-level digits."""
+
+    def show(self, scale: MapScale | None, style: str) -> None:
+        t = Text(no_wrap=True, overflow="ellipsis")
+        if scale is None:
+            self.update("", layout=False)
+            return
+        t.append("Map µT", style="bold")
+        t.append(" log scale (m: colour/shade)\n")
+        if style == "colour":
+            pal = palette()
+            for k in range(DECADES, -1, -1):
+                rgb = pal[min(k * len(pal) // DECADES, len(pal) - 1)]
+                t.append("██", style=f"rgb({rgb[0]},{rgb[1]},{rgb[2]})")
+                t.append(f" {fmt_level(10.0 ** (scale.top_exp - DECADES + k))}\n")
+        else:
+            for glyph, text in scale.legend():
+                t.append(f"{glyph}{glyph} {text}\n")
+            e = scale.edges_uT
+            t.append("iso " + " ".join(f"{k + 1}={fmt_level(v)}" for k, v in enumerate(e)))
+            t.append("\n")
+        t.append("· contour at d  × peak")
+        self.update(t, layout=False)
