@@ -26,8 +26,9 @@ from trayadvisor.model import Layout
 from trayadvisor.ranking_build import build_space, find_mirror, phase_symmetries, symmetry_group
 from trayadvisor.ranking_eval import Pool, Tables
 from trayadvisor.ranking_exhaustive import exhaustive
-from trayadvisor.ranking_local import run_heuristic, run_local
+from trayadvisor.ranking_local import run_local
 from trayadvisor.ranking_objective import Objective, make_objective
+from trayadvisor.ranking_seed import run_heuristic
 from trayadvisor.ranking_sketch import sketch
 from trayadvisor.ranking_slots import RankError
 from trayadvisor.sources import MM, sources
@@ -79,7 +80,8 @@ class RankResult:
     elapsed_s: float
     stopped_early: bool
     objective: str
-    certified: bool = False
+    certified: bool = False  # exhaustive and complete: the options are the exact top K
+    screened: int = 0  # heuristic: further arrangements bounded on a few points only
     notes: tuple[str, ...] = ()
     baseline_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
 
@@ -93,6 +95,7 @@ class RankResult:
             "objective": self.objective,
             "baseline_uT": self.baseline_uT,
             "certified": self.certified,
+            "screened": self.screened,
             "stopped_early": self.stopped_early,
             "elapsed_s": self.elapsed_s,
             "notes": list(self.notes),
@@ -193,12 +196,15 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
         deadline = t0 + DEFAULT_HEURISTIC_BUDGET_S
     reporter = _Reporter(progress, t0)
     capacity = max(64, 8 * top_k)
-    evaluated, stop, options, certified = 0, "", [], False
+    evaluated, screened, stop, options, certified = 0, 0, "", [], False
     for _ in range(3):
         pool = Pool(capacity, space.n_positions, space.canonical)
-        evaluated, stop = _search(space, src, obj, pool, method, distinct, seed=seed,
-                                  deadline=deadline, cancel=cancel, reporter=reporter,
-                                  patience=patience, max_evaluations=max_evaluations)
+        evaluated, screened, stop = _search(layout, space, src, obj, pool, method, distinct,
+                                            seed=seed,
+                                            identity=bool(constraints), deadline=deadline,
+                                            cancel=cancel, reporter=reporter,
+                                            patience=patience,
+                                            max_evaluations=max_evaluations)
         options, certified = _rescore(layout, space, obj, src, pool, top_k, constraints)
         if method != "exhaustive" or stop or certified:
             break
@@ -221,8 +227,8 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
                       distinct=int(distinct), baseline_uT=float(baseline), options=opts,
                       elapsed_s=time.perf_counter() - t0, stopped_early=bool(stop),
                       objective=obj.label, certified=bool(certified and method == "exhaustive"),
-                      notes=tuple(notes), baseline_positions=base_pos)
-
+                      screened=int(screened), notes=tuple(notes),
+                      baseline_positions=base_pos)
 
 
 def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
@@ -242,32 +248,35 @@ def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: 
     space.symmetries = symmetry_group(mirror, kmaps)
 
 
-def _search(space, src, obj: Objective, pool: Pool, method: str, distinct: int, *,  # noqa: ANN001
-            seed: int, deadline: float | None, cancel: Callable[[], bool] | None,
+def _search(layout: Layout, space, src, obj: Objective, pool: Pool,  # noqa: ANN001
+            method: str, distinct: int, *, seed: int, identity: bool,
+            deadline: float | None, cancel: Callable[[], bool] | None,
             reporter: _Reporter, patience: int | None, max_evaluations: int | None
-            ) -> tuple[int, str]:
-    """Fill ``pool`` by the chosen method; returns (arrangements evaluated, stop reason)."""
+            ) -> tuple[int, int, str]:
+    """Fill ``pool`` by the chosen method; returns (evaluated, screened, stop reason)."""
     if space.n_positions == 0:
         pool.add(np.zeros((1, 0), dtype=np.int64), np.zeros(1))
-        return 1, ""
+        return 1, 0, ""
     tables = Tables(space, src, obj.search_m)
     if method == "exhaustive":
         if distinct > _SMALL:
             run_local(space, tables, pool, seed=seed, patience=_SEED_DESCENTS,
                       deadline=deadline, cancel=cancel)
-        return exhaustive(
+        done, stop = exhaustive(
             space, tables, pool, deadline=deadline, cancel=cancel,
             tick=lambda n: reporter(n / distinct, f"{n:,} of {distinct:,} arrangements", pool))
+        return done, 0, stop
     t0 = reporter.t0
     span = max(1e-9, (deadline or t0) - t0)
     stats = run_heuristic(
-        space, tables, pool, seed=seed,
+        layout, space, tables, pool, seed=seed, identity=identity,
         patience=patience if patience is not None else max(200, 12 * space.n_positions),
         deadline=deadline, max_evaluations=max_evaluations, cancel=cancel,
         tick=lambda st, best: reporter((time.perf_counter() - t0) / span,
                                        f"{st.descents:,} descents, {st.evaluated:,} "
                                        "arrangements", pool))
-    return stats.evaluated, "" if stats.stopped == "evaluations" else stats.stopped
+    return (stats.evaluated, stats.screened,
+            "" if stats.stopped == "evaluations" else stats.stopped)
 
 def _closest(space, code: np.ndarray) -> np.ndarray:  # noqa: ANN001
     """Of a symmetry class, the member that leaves most conductors where they are now."""

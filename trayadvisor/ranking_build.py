@@ -61,7 +61,7 @@ def _sets(layout: Layout, movable: list[int], notes: list[str]) -> list[list[int
 
 
 def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = False,
-                identity: bool = False) -> Space:
+                identity: bool = False, rows: bool = False) -> Space:
     """The search space of ``layout`` (see the module notes).
 
     Parameters
@@ -75,6 +75,9 @@ def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = Fal
     identity : bool
         Distinguish conductors of different circuit, phase, area or material even when their
         currents are equal (needed by constraints on coupling and current sharing).
+    rows : bool
+        With bundles on the current places: chunk each circuit's places into groups along
+        the layers (y, then x) instead of across them (x, then y, which keeps trefoils).
     """
     if slots is not None and slots not in SLOT_RULES:
         raise RankError(f"--slots {slots}: unknown laying rule; use one of "
@@ -90,7 +93,7 @@ def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = Fal
 
     if slots is None:
         place = {i: (cons[i].x_mm, cons[i].y_mm) for i in movable}
-        group_pos = _groups_from_layout(layout, sets, notes)
+        group_pos = _groups_from_layout(layout, sets, notes, rows)
         for s, ok in list(zip(sets, group_pos, strict=True)):
             if ok is None:
                 free.extend(s)
@@ -198,7 +201,8 @@ def _diameter_at(layout: Layout, xy: tuple[float, float], slots: str | None,
     raise AssertionError("group position without a conductor")
 
 
-def _groups_from_layout(layout: Layout, sets: list[list[int]], notes: list[str]
+def _groups_from_layout(layout: Layout, sets: list[list[int]], notes: list[str],
+                        rows: bool = False
                         ) -> list[list[tuple[float, float]] | None]:
     """Groups of positions for the sets: each circuit's places in x-then-y order, chunked."""
     cons = layout.conductors
@@ -208,7 +212,8 @@ def _groups_from_layout(layout: Layout, sets: list[list[int]], notes: list[str]
         by_circ.setdefault(cons[s[0]].circuit, []).append(s)
     for circ, its in by_circ.items():
         members = sorted((i for s in its for i in s),
-                         key=lambda i: (round(cons[i].x_mm, 6), round(cons[i].y_mm, 6)))
+                         key=lambda i: (round(cons[i].y_mm, 6), round(cons[i].x_mm, 6))
+                         if rows else (round(cons[i].x_mm, 6), round(cons[i].y_mm, 6)))
         size = len(its[0])
         ok = True
         chunks = [members[n * size:(n + 1) * size] for n in range(len(its))]

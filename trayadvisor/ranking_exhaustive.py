@@ -84,6 +84,11 @@ def exhaustive(space: Space, tables: Tables, pool: Pool, *,
                 cross += a[:, s:e, None]
                 cross += c[:, None, :]
                 bound = cross.max(axis=0)
+                if not np.isfinite(pool.threshold()):  # fill the pool from the best bounds
+                    flat = np.argsort(bound, axis=None)[: 4 * pool.capacity]
+                    i0, k0 = np.unravel_index(flat, bound.shape)
+                    codes = np.concatenate([pre[s + i0], suf[k0]], axis=1)
+                    pool.add(codes, tables.values(codes))
                 ii, kk = np.nonzero(bound < pool.threshold() + tol)
                 if ii.size:
                     codes = np.concatenate([pre[s + ii], suf[kk]], axis=1)

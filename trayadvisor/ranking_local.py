@@ -26,8 +26,6 @@ _BATCH = 24  # moves evaluated on every point per batch
 _MAX_BATCHES = 4  # batches tried before a state is declared a local optimum
 _RESTART_AFTER = 30  # failed perturbations before a restart (at least; or J)
 _RANDOM_RESTART = 0.1  # share of restarts from a random arrangement (else from the elite)
-_CHAINS = 3  # independent searches of the mirror-invariant sub-problem
-_SUB_SHARE = 0.6  # share of the time budget the sub-problem may use
 
 
 @dataclass
@@ -229,39 +227,3 @@ def run_local(space: Space, tables: Tables, pool: Pool, *, seed: int, patience: 
             tick(ls.stats, best)
     return ls.stats
 
-
-def run_heuristic(space: Space, tables: Tables, pool: Pool, *, seed: int, patience: int,
-                  deadline: float | None = None, max_evaluations: int | None = None,
-                  cancel: Callable[[], bool] | None = None,
-                  tick: Callable[[SearchStats, float], None] | None = None) -> SearchStats:
-    """Local search in two phases: the mirror-invariant sub-problem (when the problem is
-    mirror-symmetric, see :mod:`trayadvisor.ranking_symmetric`), then the whole space from
-    its best arrangements and the baseline. Arguments as for :func:`run_local`."""
-    from trayadvisor.ranking_symmetric import mirror_subproblem
-
-    stats = SearchStats()
-    starts: list[np.ndarray] = []
-    sym = mirror_subproblem(space, tables)
-    if sym is not None:
-        sub, red, expand = sym
-        now = time.perf_counter()
-        span = None if deadline is None else max(0.0, deadline - now)
-        for chain in range(_CHAINS):  # independent chains: each may settle in another basin
-            sub_pool = Pool(pool.capacity, sub.n_positions)
-            end = None if span is None else now + _SUB_SHARE * span * (chain + 1) / _CHAINS
-            run_local(sub, red, sub_pool, seed=seed + 1000 * (chain + 1), patience=patience,
-                      deadline=end, max_evaluations=max_evaluations, cancel=cancel, tick=tick,
-                      stats=stats)
-            codes = expand(sub_pool.codes.astype(np.int64))
-            pool.add(codes, tables.values(codes))
-            starts.append(codes[0])
-            if stats.stopped == "cancelled":
-                return stats
-            stats.stopped = ""
-    if stats.stopped == "cancelled":
-        return stats
-    if space.baseline is not None:
-        starts.append(space.baseline)
-    return run_local(space, tables, pool, seed=seed + 1, patience=patience, deadline=deadline,
-                     max_evaluations=max_evaluations, cancel=cancel, tick=tick,
-                     starts=starts, stats=stats)

@@ -17,7 +17,7 @@ from collections.abc import Callable
 import numpy as np
 
 from trayadvisor.ranking_eval import Tables
-from trayadvisor.ranking_space import Space
+from trayadvisor.ranking_space import Group, Space
 
 
 def mirror_subproblem(space: Space, tables: Tables
@@ -25,13 +25,13 @@ def mirror_subproblem(space: Space, tables: Tables
     """(reduced space, reduced tables, expand) or None when no such sub-problem exists.
 
     ``expand(codes)`` maps (N, J') reduced arrangements to (N, J) full ones. Needs a mirror
-    permutation and free cells only (bundles are left to the unrestricted search); in each
-    cell the kinds with an odd count must fit the positions on the axis.
+    permutation; in each free cell the kinds with an odd count must fit the positions on
+    the axis; groups must come in mirrored pairs (none on the axis) with every set type an
+    even number of times.
     """
     mir = space.mirror
-    if mir is None or space.groups:
+    if mir is None:
         return None
-    reps, onaxis_all, cells = [], [], []
     sub_cells: list[tuple[np.ndarray, np.ndarray]] = []
     for s, e, counts in space.free_cells:
         idx = np.arange(s, e)
@@ -50,20 +50,35 @@ def mirror_subproblem(space: Space, tables: Tables
         sub_cells.append((pairs, (counts - on_axis) // 2))
         if axis.size:
             sub_cells.append((axis, on_axis))
-    start = 0
+    owner = np.full(space.n_positions, -1)
+    for g, grp in enumerate(space.groups):
+        owner[grp.start:grp.stop] = g
+    kept = []
+    for g, grp in enumerate(space.groups):
+        other = int(owner[mir[grp.start]])
+        if other == g or np.any(space.type_counts % 2):
+            return None
+        if g < other:
+            kept.append(grp)
+    reps, cells, groups, start = [], [], [], 0
     for idx, counts in sub_cells:
         reps.append(idx)
         cells.append((start, start + idx.size, counts))
         start += idx.size
-        onaxis_all.append(mir[idx] == idx)
+    for grp in kept:
+        shift = start - grp.start
+        reps.append(np.arange(grp.start, grp.stop))
+        groups.append(Group(grp.start + shift, grp.stop + shift,
+                            tuple((a + shift, b + shift) for a, b in grp.subcells), grp.shape))
+        start += grp.stop - grp.start
     rep = np.concatenate(reps) if reps else np.zeros(0, dtype=np.int64)
     if rep.size == 0 or rep.size == space.n_positions:
         return None
     partner = mir[rep]
     own = partner == rep
     sub = Space(space.positions_mm[rep], space.diameters_mm[rep], space.kinds, tuple(cells),
-                (), np.zeros((0, space.n_kinds), dtype=np.int64), np.zeros(0, dtype=np.int64),
-                space.fixed, None, space.rule)
+                tuple(groups), space.set_types, space.type_counts // 2, space.fixed, None,
+                space.rule)
     red = object.__new__(Tables)
     red.V = np.ascontiguousarray(np.where(own[:, None, None, None], tables.V[rep],
                                           tables.V[rep] + tables.V[partner]))
