@@ -277,3 +277,16 @@ def test_no_movable_conductor_gives_the_file_arrangement():
     assert res.distinct == 1 and len(res.options) == 1
     assert res.options[0].reduction_pct == 0.0
     assert res.options[0].max_resultant_uT == pytest.approx(res.baseline_uT, rel=1e-12)
+
+
+def test_ranking_core_loads_no_terminal_ui():
+    import subprocess
+    import sys
+
+    code = ("import sys, trayadvisor.ranking, trayadvisor.export, trayadvisor.ranking_seed\n"
+            "print(','.join(sorted(k for k in sys.modules if k.split('.')[0] in "
+            "('textual', 'rich'))))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True, timeout=60)
+    # Source: STYLE.md layer rule (the core never imports textual or rich).
+    assert out.stdout.strip() == ""

@@ -116,8 +116,8 @@ def render(path: str, layout: Layout, r: RankResult) -> str:
     done = f"{r.evaluated:,}" + (f" of {r.distinct:,} distinct" if r.distinct else "")
     exact = "; top options exact" if r.certified else ""
     rows = [f"{path}: {layout.title or '(untitled)'}",
-            f"  objective: {r.objective}; {r.method}: {done} arrangements evaluated{exact} "
-            f"in {r.elapsed_s:.1f} s",
+            f"  objective: {r.objective}; {r.method}: {done} arrangements evaluated in "
+            f"{r.elapsed_s:.1f} s{exact}",
             f"  now (arrangement in the file): {fmt_ut(r.baseline_uT)} µT",
             f"  {'rank':>4}  {'µT':>9}  {'reduction':>9}  {'dB':>6}  far field"]
     for o in r.options:
@@ -234,11 +234,17 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
             if apply > len(result.options):
                 raise _fail(f"--apply {apply}: only {len(result.options)} option(s) were "
                             f"found; choose 1 to {len(result.options)}")
-            from trayadvisor.layoutfile import write_layout
+            from trayadvisor.layoutfile import LayoutError, validate_layout, write_layout
             from trayadvisor.ranking import apply_option
 
             opt = result.options[apply - 1]
-            write_layout(apply_option(layout, opt), out)
+            new = apply_option(layout, opt)
+            try:
+                validate_layout(new, out)
+            except LayoutError as err:
+                raise _fail(f"--apply {apply}: the option does not give a valid layout "
+                            f"({err.message})") from None
+            write_layout(new, out)
             print(f"wrote {out}: {path} with option {apply} "
                   f"({fmt_ut(opt.max_resultant_uT)} µT, {opt.reduction_pct:.1f} % lower)",
                   file=stream)
