@@ -170,7 +170,7 @@ def test_undo_all_then_redo_all_round_trips(steps) -> None:
 def test_plain_modules_do_not_import_textual() -> None:
     """The editor's logic stays testable and reusable without the UI toolkit."""
     mods = ["document", "edits", "viewport", "scene", "mapscale", "settings", "compute",
-            "keymap"]
+            "keymap", "ranktable", "couplingtext"]
     code = ("import importlib, sys\n"
             f"for m in {mods!r}:\n"
             "    importlib.import_module('trayadvisor.tui.' + m)\n"

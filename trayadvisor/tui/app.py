@@ -4,7 +4,8 @@
 :class:`~trayadvisor.tui.document.Document` (every edit goes through :meth:`TrayApp.
 apply_edit`, so it is undoable), the view settings and the latest field figures, which a
 worker thread computes with the same functions the CLI calls. Views are app modes listed in
-:data:`trayadvisor.tui.views.VIEWS`; the app tells the view on show what changed.
+:data:`trayadvisor.tui.views.VIEWS`; the app tells the view on show what changed. Reports
+are written from any view (:mod:`trayadvisor.tui.reports`).
 """
 
 from __future__ import annotations
@@ -26,6 +27,7 @@ from trayadvisor.tui.compute import Failed, LimitDone, Result, SummaryDone, run_
 from trayadvisor.tui.document import Document
 from trayadvisor.tui.files import FileCommands
 from trayadvisor.tui.keymap import KeymapError, default_keymap_path, load_keymap
+from trayadvisor.tui.reports import ReportCommands
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.help import HelpScreen
 from trayadvisor.tui.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
@@ -52,7 +54,7 @@ class Computed(Message):
                 and a.figure.name == b.figure.name)
 
 
-class TrayApp(FileCommands, App[None]):
+class TrayApp(FileCommands, ReportCommands, App[None]):
     """Edit a cable-tray cross-section and watch its stray magnetic field."""
 
     CSS_PATH = "app.tcss"
@@ -61,7 +63,7 @@ class TrayApp(FileCommands, App[None]):
     MODES = {v.name: v.screen for v in VIEWS}
     DEFAULT_MODE = VIEWS[0].name
     BINDINGS = [
-        *(Binding(v.key, f"show_view('{v.name}')", v.title, id=f"view.{v.name}",
+        *(Binding(v.key, f"show_view('{v.name}')", v.title, show=False, id=f"view.{v.name}",
                   tooltip=f"show the {v.title} view") for v in VIEWS),
         Binding("ctrl+s", "save", "Save", id="file.save",
                 tooltip="save (checks the layout first)"),
@@ -69,6 +71,8 @@ class TrayApp(FileCommands, App[None]):
                 tooltip="save under another name"),
         Binding("ctrl+o", "open", "Open", show=False, id="file.open",
                 tooltip="open a layout file"),
+        Binding("R", "report", "Report", id="file.report",
+                tooltip="write the report (.html, or .md + .svg)"),
         Binding("u,ctrl+z", "undo", "Undo", id="edit.undo",
                 tooltip="undo the last edit"),
         Binding("ctrl+r,ctrl+y", "redo", "Redo", show=False, id="edit.redo",
@@ -242,7 +246,9 @@ class TrayApp(FileCommands, App[None]):
             bid = b.id or b.action
             keys, _ = merged.setdefault(bid, ([], b.tooltip or b.description or b.action))
             keys.append(self.get_key_display(b.with_key(key)))
+        ours = known_binding_ids()
         keys_list = [(", ".join(k), d, bid) for bid, (k, d) in merged.items()]
+        keys_list.sort(key=lambda row: row[2] not in ours)  # the app's own keys first
         views = [(v.key, v.title, v.description) for v in self.view_specs]
         self.push_screen(HelpScreen(views, keys_list))
 

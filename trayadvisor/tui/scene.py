@@ -34,6 +34,17 @@ Key = tuple | None
 Cell = tuple[str, Key]
 
 
+def drawing_bounds(layout: Layout) -> Bounds:
+    """What "fit" shows: the trays and conductors (a 1 m square round a lone point)."""
+    x0, y0, x1, y1 = layout.envelope_mm()
+    for c in layout.conductors:
+        x0, y0 = min(x0, c.x_mm - c.radius_mm), min(y0, c.y_mm - c.radius_mm)
+        x1, y1 = max(x1, c.x_mm + c.radius_mm), max(y1, c.y_mm + c.radius_mm)
+    if x1 - x0 < 1 and y1 - y0 < 1:
+        return (x0 - 500, y0 - 500, x1 + 500, y1 + 500)
+    return (x0, y0, x1, y1)
+
+
 def circuit_tags(layout: Layout) -> dict[str, str]:
     """Circuit name -> one-letter tag (A, B, ... in file order)."""
     return {c.name: TAGS[i % len(TAGS)] for i, c in enumerate(layout.circuits)}

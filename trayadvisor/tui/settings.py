@@ -8,6 +8,7 @@ import math
 from dataclasses import dataclass
 
 from trayadvisor.analysis import DEFAULT_DISTANCE_MM
+from trayadvisor.limits import all_limits
 from trayadvisor.model import Layout, Limit
 
 #: Name given to a limit typed in (``edit --limit-ut`` or the settings form).
@@ -54,12 +55,7 @@ class ViewSettings:
 def available_limits(layout: Layout, typed_ut: float | None = None) -> tuple[Limit, ...]:
     """The limits offered: the library's (valid at the layout's frequency), the layout's
     own ``[[limit]]`` entries, and a typed-in one."""
-    try:  # TODO(limits): drop this fallback once trayadvisor.limits is on main
-        from trayadvisor.limits import all_limits
-    except ImportError:
-        found: tuple[Limit, ...] = tuple(layout.limits)
-    else:
-        found = tuple(all_limits(layout))
+    found = all_limits(layout)
     if typed_ut is not None:
         found += (Limit(TYPED_LIMIT, float(typed_ut), "typed in"),)
     return found

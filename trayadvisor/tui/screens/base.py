@@ -21,6 +21,8 @@ from textual.css.query import NoMatches
 from textual.screen import Screen
 from textual.widgets import Footer
 
+from trayadvisor.tui.screens.forms import SettingsForm
+from trayadvisor.tui.settings import ViewSettings
 from trayadvisor.tui.widgets.panels import StatusLine, ViewBar
 
 if TYPE_CHECKING:
@@ -70,6 +72,17 @@ class WorkScreen(Screen[None]):
 
     def settings_changed(self) -> None:
         self.results_changed()
+
+    def action_settings(self) -> None:
+        """The settings form (distance d, limit, step, map style); views bind it to d."""
+        app = self.tapp
+
+        def done(new: ViewSettings | None) -> None:
+            if new is not None:
+                app.set_settings(new)
+
+        self.app.push_screen(SettingsForm(app.settings, app.limits, app.current_figures(),
+                                          app.document.layout), done)
 
     def update_bars(self) -> None:
         """View bar and status line from the app's state."""

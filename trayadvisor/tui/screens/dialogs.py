@@ -1,12 +1,14 @@
-"""Small modal dialogs: yes/no, unsaved edits, a message, a file path."""
+"""Small modal dialogs: yes/no, unsaved edits, a message, a file path, an output file."""
 
 from __future__ import annotations
 
+import os
+from collections.abc import Callable
 from pathlib import Path
 from typing import TypeVar
 
 from textual import on
-from textual.app import ComposeResult
+from textual.app import App, ComposeResult
 from textual.await_complete import AwaitComplete
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -124,14 +126,23 @@ class PathDialog(Dialog[str | None]):
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="path.cancel")]
 
-    def __init__(self, title: str, initial: str = "", folder: Path | None = None) -> None:
+    def __init__(self, title: str, initial: str = "", folder: Path | None = None, *,
+                 pattern: str | None = "*.toml", hint: str = "",
+                 placeholder: str = "path/to/layout.toml") -> None:
+        """``pattern``: the files listed to pick from (None: no list); ``hint``: the key
+        line under the field."""
         super().__init__()
         self.title_text, self.initial = title, initial
         self.folder = folder or Path.cwd()
+        self.pattern, self.placeholder = pattern, placeholder
+        self.hint = hint or ("Enter opens · Tab to the list · Esc cancels" if pattern
+                             else "Enter accepts · Esc cancels")
 
     def _files(self) -> list[str]:
+        if self.pattern is None:
+            return []
         try:
-            found = sorted(p for p in self.folder.glob("*.toml") if p.is_file())
+            found = sorted(p for p in self.folder.glob(self.pattern) if p.is_file())
         except OSError:
             return []
         cwd = Path.cwd()
@@ -146,13 +157,15 @@ class PathDialog(Dialog[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog path"):
             yield Static(self.title_text, classes="form-title", markup=False)
-            yield Input(self.initial, id="path", placeholder="path/to/layout.toml",
-                        compact=True)
-            files = self._files()
-            yield Static(f"Layout files in {self.folder}:" if files else
-                         f"No .toml files in {self.folder}", markup=False, classes="hint")
-            yield OptionList(*[Option(f, id=f) for f in files], id="files")
-            yield Static("Enter opens · Tab to the list · Esc cancels", classes="hint")
+            yield Input(self.initial, id="path", placeholder=self.placeholder, compact=True)
+            if self.pattern is not None:
+                files = self._files()
+                what = "Layout files" if self.pattern == "*.toml" else f"{self.pattern} files"
+                yield Static(f"{what} in {self.folder}:" if files else
+                             f"No {self.pattern} files in {self.folder}", markup=False,
+                             classes="hint")
+                yield OptionList(*[Option(f, id=f) for f in files], id="files")
+            yield Static(self.hint, classes="hint", markup=False)
 
     def on_mount(self) -> None:
         self.query_one("#path", Input).focus()
@@ -169,3 +182,23 @@ class PathDialog(Dialog[str | None]):
     @on(OptionList.OptionSelected, "#files")
     def _picked(self, event: OptionList.OptionSelected) -> None:
         self.dismiss(event.option.id)
+
+
+def choose_output(app: App, title: str, initial: str, go: Callable[[Path], object], *,
+                  folder: Path | None = None, hint: str = "", placeholder: str = "") -> None:
+    """Ask for a file to write (no list to pick from), ask before replacing an existing
+    file, then call ``go(path)``; Escape at either question does nothing."""
+
+    def chosen(text: str | None) -> None:
+        if not text:
+            return
+        target = Path(os.path.expanduser(text))
+        if target.exists():
+            app.push_screen(ConfirmDialog("Replace file?", f"{target} exists. Replace it?",
+                                          "Replace", "Keep"),
+                            lambda yes: go(target) if yes else None)
+        else:
+            go(target)
+
+    app.push_screen(PathDialog(title, initial, folder, pattern=None, hint=hint,
+                               placeholder=placeholder or initial), chosen)

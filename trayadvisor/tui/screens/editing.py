@@ -10,9 +10,9 @@ from textual.binding import Binding
 
 from trayadvisor.model import Circuit, Conductor, Tray
 from trayadvisor.tui import edits
+from trayadvisor.tui.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
-from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm, SettingsForm, TrayForm
-from trayadvisor.tui.settings import ViewSettings
+from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm, TrayForm
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 
 #: A new circuit's defaults when the user adds one.
@@ -72,15 +72,8 @@ class EditingScreen(WorkScreen):
                              peak_mm=s.max_at_mm if s is not None else None)
 
     def fit_bounds(self) -> tuple[float, float, float, float]:
-        """What "fit" (key 0) shows: the trays and conductors with a margin."""
-        lay = self.tapp.document.layout
-        x0, y0, x1, y1 = lay.envelope_mm()
-        for c in lay.conductors:
-            x0, y0 = min(x0, c.x_mm - c.radius_mm), min(y0, c.y_mm - c.radius_mm)
-            x1, y1 = max(x1, c.x_mm + c.radius_mm), max(y1, c.y_mm + c.radius_mm)
-        if x1 - x0 < 1 and y1 - y0 < 1:
-            return (x0 - 500, y0 - 500, x1 + 500, y1 + 500)
-        return (x0, y0, x1, y1)
+        """What "fit" (key 0) shows: the trays and conductors."""
+        return drawing_bounds(self.tapp.document.layout)
 
     _serial = -1  #: the app's document serial this view last drew
 
@@ -247,13 +240,3 @@ class EditingScreen(WorkScreen):
             self.tapp.apply_edit(edits.delete_tray(lay, old), f"delete tray {old}")
         elif isinstance(new, Tray):
             self.tapp.apply_edit(edits.replace_tray(lay, old, new), f"edit tray {new.name}")
-
-    def action_settings(self) -> None:
-        app = self.tapp
-
-        def done(new: ViewSettings | None) -> None:
-            if new is not None:
-                app.set_settings(new)
-
-        self.app.push_screen(SettingsForm(app.settings, app.limits, app.current_figures(),
-                                          app.document.layout), done)

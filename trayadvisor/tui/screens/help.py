@@ -62,7 +62,14 @@ class HelpScreen(Dialog[None]):
         t.append("\n  The arrows move the selected conductor when the drawing has the focus.\n"
                  "  Tab moves the focus between the drawing and the list; in the list ↑↓ "
                  "select and Enter edits the conductor, circuit or tray.\n"
-                 "  In the Field view, m switches the map between colour and shading.\n\n")
+                 "  In the Field view, m switches the map between colour and shading.\n"
+                 "  In the Ranking view: r ranks the open layout, Esc stops a run and keeps "
+                 "the best found so far, a or Enter applies the highlighted option as one "
+                 "edit (u undoes it), w saves the options (.csv, .json or .md), p sets top K, "
+                 "the objective and a time budget.\n"
+                 "  The Coupling view takes the Section view's editing keys; its figures "
+                 "follow every move. The worst values are marked in words (◀ ...).\n"
+                 "  R writes the report of the open layout from any view.\n\n")
         t.append("Drawing\n", style="bold")
         t.append(GLYPHS + "\n\n")
         t.append(CAUTION_LINE + "\n")

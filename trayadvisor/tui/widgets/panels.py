@@ -1,5 +1,5 @@
 """Thin panels around the canvas: the view bar, the status line, the circuit and conductor
-list, the selection details, the field readouts and the map legend.
+list, the selection details, the field readouts, the map legend and the coupling figures.
 
 Each one shows what its screen hands it and posts a message for what the user picks;
 numbers come from :mod:`trayadvisor.analysis` results computed elsewhere.
@@ -18,6 +18,7 @@ from trayadvisor.analysis import FieldSummary, LimitFigure
 from trayadvisor.cli.cmd_field import ORDER_WORDS
 from trayadvisor.cli.common import fmt_mm, fmt_ut
 from trayadvisor.model import Conductor, Layout, Limit
+from trayadvisor.tui.couplingtext import Line
 from trayadvisor.tui.mapscale import DECADES, MapScale, fmt_level, palette
 from trayadvisor.tui.scene import PHASE_GLYPH, circuit_tags
 
@@ -36,12 +37,14 @@ class ViewBar(Static):
              dirty: bool, note: str = "") -> None:
         """``views``: (key, title, name) each; ``current``: the shown view's name."""
         t = Text(no_wrap=True, overflow="ellipsis")
-        for key, title, name in views:
+        for k, (key, title, name) in enumerate(views):  # 80 columns: 4 views, file, d
+            if k:
+                t.append(" ")
             if name == current:
                 t.append(f"[{key} {title}]", style="bold reverse")
             else:
-                t.append(f" {key} {title} ")
-            t.append(" ")
+                t.append(f"{key} {title}")
+        t.append(" ")
         t.append("│ ")
         t.append(label, style="bold")
         if dirty:
@@ -263,3 +266,23 @@ class MapLegend(Static):
             t.append("\n")
         t.append("· contour at d  × peak")
         self.update(t, layout=False)
+
+
+#: Styles of the coupling panel's line kinds; its words and markers carry the meaning alone.
+_STYLES = {"head": "bold", "worst": "bold yellow", "warning": "bold red", "note": "dim",
+           "row": ""}
+
+
+class CouplingPanel(Static):
+    """Victim EMF and current sharing: the lines it is handed (see
+    :mod:`trayadvisor.tui.couplingtext`), styled by kind."""
+
+    def show(self, lines: list[Line], pending: bool = False) -> None:
+        t = Text()
+        for k, line in enumerate(lines):
+            if k:
+                t.append("\n")
+            t.append(line.text, style=_STYLES.get(line.kind, ""))
+        if pending:
+            t.append("\n…", style="dim")
+        self.update(t)

@@ -1,0 +1,128 @@
+"""The Ranking and Coupling views' plain parts (no textual): parameters, rows, staleness,
+worst-value markers. Reference values are the engines' own results and the exporter's
+independent "moved" column."""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from trayadvisor.cli.common import demo_path
+from trayadvisor.coupling import coupling_summary
+from trayadvisor.export import result_csv
+from trayadvisor.layoutfile import read_layout
+from trayadvisor.model import Conductor
+from trayadvisor.ranking import apply_option, rank_layout
+from trayadvisor.tui.couplingtext import (
+    WORST_EMF,
+    WORST_IMBALANCE,
+    WORST_SHARE,
+    coupling_lines,
+    victim_lines,
+)
+from trayadvisor.tui.edits import move_conductor
+from trayadvisor.tui.ranktable import (
+    RankParams,
+    columns,
+    fits,
+    moved_count,
+    objective_choices,
+    option_cells,
+    staleness,
+    usable_params,
+)
+
+DEMO = read_layout(demo_path())
+#: Six conductors, 90 distinct arrangements: ranked exactly in milliseconds.
+SMALL = read_layout(Path(__file__).parents[2] / "layouts" / "two-sets-reversed.toml")
+
+
+def test_rank_params_check_their_values() -> None:
+    for bad in ({"top_k": 0}, {"top_k": 51}, {"budget_s": 0.0}, {"budget_s": math.inf},
+                {"objective": "contour"}, {"objective": "line:"}):
+        with pytest.raises(ValueError):
+            RankParams(**bad)
+    values = [v for _, v in objective_choices(DEMO)]
+    assert values == ["contour", "line:QR-wall", "point:QR-desk"]
+    gone = RankParams(3, "line:no-such-line", 2.0)
+    assert usable_params(gone, DEMO) == RankParams(3, None, 2.0)
+    assert usable_params(RankParams(3, "point:QR-desk"), DEMO).objective == "point:QR-desk"
+
+
+def test_rows_carry_the_engine_figures_and_the_exporters_moves() -> None:
+    r = rank_layout(SMALL, distance_mm=500.0, top_k=4)
+    assert [c.label for c in columns(r)][:2] == ["#", "µT"]
+    rows = list(csv.DictReader(io.StringIO(result_csv(r, SMALL))))   # reference: export
+    for opt in r.options:
+        cells = option_cells(r, opt)
+        assert len(cells) == len(columns(r)) and cells[0] == str(opt.rank)
+        assert cells[2] == f"{opt.reduction_pct:.1f}"
+        moved = sum(1 for row in rows if row["rank"] == str(opt.rank) and row["moved"] == "yes")
+        assert moved_count(r, opt) == moved
+
+
+def test_a_result_fits_while_only_positions_change() -> None:
+    r = rank_layout(SMALL, distance_mm=500.0, top_k=2)
+    opt = r.options[0]
+    name = SMALL.conductors[0].name
+    moved = move_conductor(SMALL, name, 5.0, 0.0)
+    assert fits(opt, SMALL, SMALL) and fits(opt, SMALL, moved)
+    assert staleness(r, SMALL, SMALL, None, 500.0) == ""
+    assert "still apply" in staleness(r, SMALL, moved, None, 500.0)
+    applied = apply_option(SMALL, r.options[1])
+    assert staleness(r, SMALL, applied, None, 500.0) == "the open layout is option 2 (u undoes)"
+    assert "d is now 300" in staleness(r, SMALL, SMALL, None, 300.0)
+    assert staleness(r, SMALL, SMALL, "line:x", 300.0) == ""    # d does not enter a line
+    c0 = SMALL.conductors[0]
+    grown = SMALL.with_conductors([*SMALL.conductors,
+                                   Conductor("extra", c0.circuit, c0.phase, 1e4, 0.0, 10.0)])
+    assert not fits(opt, SMALL, grown)
+    assert "r ranks again" in staleness(r, SMALL, grown, None, 500.0)
+    heavier = replace(SMALL, circuits=tuple(replace(c, current_a=c.current_a * 2)
+                                            for c in SMALL.circuits))
+    assert not fits(opt, SMALL, heavier)                        # currents changed
+
+
+def test_worst_values_are_marked_in_words() -> None:
+    lines = coupling_lines(coupling_summary(DEMO))
+    worst = [ln.text for ln in lines if ln.kind == "worst"]
+    marked = [t for t in worst if "◀" in t]
+    assert len(marked) == 2 and len(worst) == 5     # two table rows, three summary lines
+    data = coupling_summary(DEMO).to_json()                     # reference: couple --json
+    g = max(data["groups"], key=lambda g: g["imbalance_pct"])
+    imb = next(t for t in marked if WORST_IMBALANCE in t)
+    assert imb.split()[:2] == [g["circuit"], g["phase"]]
+    assert f" imbalance {g['circuit']} {g['phase']} {g['imbalance_pct']:.1f} %" in worst
+    size = {(g["circuit"], g["phase"]): len(g["conductors"]) for g in data["groups"]}
+    top = max(data["sharing"], key=lambda c: c["share_pct"] * size[(c["circuit"], c["phase"])])
+    share = next(t for t in marked if WORST_SHARE in t)
+    assert share.split()[0] == top["conductor"]
+    assert any(t.split()[:2] == ["share", top["conductor"]] for t in worst)
+    assert worst[0].split()[:2] == ["EMF", data["victims"][0]["circuit"]]
+    # 59 % where 50 % is even: the rating caution names the conductor.
+    caution = [ln.text for ln in lines if "no ampacity check" in ln.text]
+    assert len(caution) == 1 and top["conductor"] in caution[0]
+    # One victim: nothing to compare, no marker; two unequal victims: the larger marked.
+    one = victim_lines(data)
+    assert not any(WORST_EMF in ln.text for ln in one)
+    v = data["victims"][0]
+    two = dict(data, victims=[v, dict(v, circuit="C8", induced_mV_per_m=2 * v[
+        "induced_mV_per_m"])])
+    marked = [ln.text for ln in victim_lines(two) if WORST_EMF in ln.text]
+    assert len(marked) == 1 and marked[0].split()[0] == "C8"
+
+
+def test_coinciding_conductors_give_a_warning_not_numbers() -> None:
+    c = DEMO.conductors
+    on_top = move_conductor(DEMO, c[0].name, c[1].x_mm - c[0].x_mm, c[1].y_mm - c[0].y_mm)
+    with np.errstate(all="ignore"):                             # as the view's worker does
+        lines = coupling_lines(coupling_summary(on_top))
+    assert lines[0].kind == "warning" and "undefined" in lines[0].text
+    row = next(ln.text for ln in lines if ln.text.split()[:2] == ["F1", "L1"])
+    assert "–" in row and WORST_IMBALANCE not in row            # no fake 0 % imbalance
