@@ -204,3 +204,17 @@ def test_sharing_is_independent_of_where_the_origin_is():
                                  for c in lay.conductors])
     np.testing.assert_allclose(solve_sharing(moved).currents, solve_sharing(lay).currents,
                                rtol=1e-9, atol=1e-9)
+
+
+def test_coincident_conductors_give_no_imbalance_figure_rather_than_zero():
+    # Two parallel conductors at one place: the mutual inductance ln(1/0) has no value, so
+    # the imbalance must be reported as missing (NaN), never as a reassuring 0 %.
+    from trayadvisor.model import Circuit, Conductor, Layout
+    from trayadvisor.sharing import solve_sharing
+
+    cons = (Conductor("a1", "F", "L", 0.0, 0.0, 10.0), Conductor("a2", "F", "L", 0.0, 0.0, 10.0),
+            Conductor("n", "F", "N", 50.0, 0.0, 10.0))
+    lay = Layout(circuits=(Circuit("F", "ac1", 100.0),), conductors=cons)
+    with np.errstate(all="ignore"):
+        res = solve_sharing(lay)
+    assert all(not np.isfinite(g.imbalance_pct) for g in res.groups)

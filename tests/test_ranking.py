@@ -290,3 +290,16 @@ def test_ranking_core_loads_no_terminal_ui():
                          check=True, timeout=60)
     # Source: STYLE.md layer rule (the core never imports textual or rich).
     assert out.stdout.strip() == ""
+
+
+def test_sketch_of_a_crowded_single_row_does_not_fail():
+    # 48 conductors in one row: more tags than columns; every tag must still be written.
+    from trayadvisor.model import Circuit, Conductor, Layout, Tray
+    from trayadvisor.ranking_sketch import sketch
+
+    cs = [Conductor(f"c{i}", "F1", ("L1", "L2", "L3")[i % 3], 20.0 + 20.0 * i, 10.0, 20.0)
+          for i in range(48)]
+    lay = Layout(trays=(Tray("T", 0.0, 0.0, 1000.0, 40.0),),
+                 circuits=(Circuit("F1", "ac3", 100.0),), conductors=tuple(cs))
+    text = sketch(lay, {c.name: (c.x_mm, c.y_mm) for c in cs})
+    assert sum(text.splitlines()[0].count(t) for t in ("L1", "L2", "L3")) == 48

@@ -71,7 +71,7 @@ def sketch(layout: Layout, positions: dict[str, tuple[float, float]],
             t = tag(c)
             at = max(0, col(xy[c.name][0]) - len(t) // 2)
             while any(ch != " " for ch in line[at:at + len(t)]) or \
-                    (at > 0 and line[at - 1] != " "):
+                    (0 < at <= len(line) and line[at - 1] != " "):
                 at += 1
             if at + len(t) > len(line):
                 line.extend([" "] * (at + len(t) - len(line)))

@@ -225,7 +225,8 @@ def group_imbalance_pct(plan: SharingPlan, currents: np.ndarray) -> np.ndarray:
     """(max |I| − min |I|) / mean |I| × 100 of each parallel group, (..., G) float.
 
     ``currents`` is (..., H, n) from :func:`solve_plan`. Evaluated at each group's reported
-    component (fundamental; DC for dc circuits); 0 for a group carrying no current.
+    component (fundamental; DC for dc circuits); 0 for a group carrying no current; NaN when
+    the solve has no answer (coincident conductors).
     """
     if plan.free.size == 0:
         return np.zeros((*currents.shape[:-2], 0))
@@ -235,7 +236,8 @@ def group_imbalance_pct(plan: SharingPlan, currents: np.ndarray) -> np.ndarray:
     sizes = np.diff(np.append(plan.starts, plan.free.size))
     mean = np.add.reduceat(mag, plan.starts, axis=-1) / sizes
     safe = np.where(mean > 0.0, mean, 1.0)
-    return np.where(mean > 0.0, (hi - lo) / safe * 100.0, 0.0)
+    out = np.where(mean > 0.0, (hi - lo) / safe * 100.0, 0.0)
+    return np.where(np.isfinite(mean), out, np.nan)
 
 
 @dataclass(frozen=True)
