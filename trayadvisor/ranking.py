@@ -13,6 +13,7 @@ exceeds the K-th re-scored one: the exhaustive top K is then exact (``certified`
 
 from __future__ import annotations
 
+import math
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -31,6 +32,7 @@ from trayadvisor.ranking_objective import Objective, make_objective
 from trayadvisor.ranking_seed import run_heuristic
 from trayadvisor.ranking_sketch import sketch
 from trayadvisor.ranking_slots import RankError
+from trayadvisor.sharing import sharing_overrides
 from trayadvisor.sources import MM, sources
 
 __all__ = ["Constraint", "RankError", "RankOption", "RankResult", "apply_option",
@@ -40,6 +42,7 @@ DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by defa
 DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
 _SEED_DESCENTS = 16  # local-search descents that seed the exhaustive pool's threshold
 _SMALL = 512  # below this many arrangements no seeding is needed
+SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing (``sharing=True``)
 
 
 class Constraint(Protocol):
@@ -116,6 +119,20 @@ def apply_option(layout: Layout, option: RankOption) -> Layout:
     return layout.with_positions(option.positions)
 
 
+def _coupling_reporters(constraints: Sequence[Constraint], sharing: bool
+                        ) -> tuple[Constraint, ...]:
+    """Figure-only coupling checks (limit inf) for the keys no given constraint covers."""
+    from trayadvisor.coupling_constraints import imbalance_constraint, induced_voltage_constraint
+
+    have = {getattr(c, "key", None) for c in constraints}
+    out: list[Constraint] = []
+    if "imbalance_pct" not in have:
+        out.append(imbalance_constraint(math.inf))
+    if "induced_mV_per_m" not in have:
+        out.append(induced_voltage_constraint(math.inf, sharing=sharing))
+    return tuple(out)
+
+
 def _check(constraints: Sequence[Constraint], lay: Layout) -> tuple[bool, dict[str, float]]:
     ok, figs = True, {}
     for con in constraints:
@@ -124,7 +141,8 @@ def _check(constraints: Sequence[Constraint], lay: Layout) -> tuple[bool, dict[s
             ok = ok and bool(got)
             continue
         ok = ok and bool(got.passes)
-        figs[str(got.key)] = float(got.value)
+        if getattr(got, "worst", None) != "":  # "" = nothing to report (no group, no victim)
+            figs[str(got.key)] = float(got.value)
     return ok, figs
 
 
@@ -136,7 +154,8 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
                 progress: Callable[[float, str], None] | None = None,
                 cancel: Callable[[], bool] | None = None,
                 max_evaluations: int | None = None,
-                patience: int | None = None) -> RankResult:
+                patience: int | None = None, sharing: bool = False,
+                coupling_figures: bool = True) -> RankResult:
     """Rank the distinct arrangements of the movable conductors by stray field.
 
     Parameters
@@ -160,14 +179,24 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
     seed : int
         Seed of the local search (results repeat for one seed unless the budget cuts in).
     constraints : sequence of Constraint
-        Checks an option must pass; they also make conductors of different circuits
-        distinguishable.
+        Checks an option must pass, and figures every option lists. A constraint with a
+        finite ``limit`` makes conductors of different circuits distinguishable; one with
+        ``limit = inf`` only reports its figure.
     progress : callable(fraction, message), optional
         Called now and then (at most ~5 times a second).
     cancel : callable() -> bool, optional
         Polled between blocks; when true the best found so far is returned.
     max_evaluations, patience : int, optional
         Heuristic stops: scored arrangements; descents without a new best.
+    sharing : bool
+        Score the options with the solved current sharing between parallel conductors
+        (:func:`trayadvisor.sharing.sharing_overrides`) instead of equal shares. The search
+        itself runs on equal shares; the best :data:`SHARING_RESCORE` candidates are then
+        re-scored with sharing and re-ranked (such a ranking is not certified).
+    coupling_figures : bool
+        List every option's current imbalance and victim EMF (``imbalance_pct``,
+        ``induced_mV_per_m`` in ``figures``) when the layout has parallel conductors or
+        victim loops; a constraint in ``constraints`` with the same key takes its place.
 
     Returns
     -------
@@ -182,12 +211,16 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
         raise RankError(f"--budget-s {budget_s}: must be a positive number of seconds")
     src = sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
-    space = build_space(layout, slots=slots, bundles=bundles, identity=bool(constraints))
+    identity = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
+    if coupling_figures:
+        constraints = (*constraints, *_coupling_reporters(constraints, sharing))
+    space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
     notes = list(space.notes)
-    _symmetries(space, layout, obj, bool(constraints), notes)
+    _symmetries(space, layout, obj, identity, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
-    baseline = obj.score_uT(src, layout, base_pos)
+    baseline = obj.score_uT(sources(layout, sharing_overrides(layout)) if sharing else src,
+                            layout, base_pos)
     method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
     deadline = None
     if budget_s is not None:
@@ -201,17 +234,22 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
         pool = Pool(capacity, space.n_positions, space.canonical)
         evaluated, screened, stop = _search(layout, space, src, obj, pool, method, distinct,
                                             seed=seed,
-                                            identity=bool(constraints), deadline=deadline,
+                                            identity=identity, deadline=deadline,
                                             cancel=cancel, reporter=reporter,
                                             patience=patience,
                                             max_evaluations=max_evaluations)
-        options, certified = _rescore(layout, space, obj, src, pool, top_k, constraints)
-        if method != "exhaustive" or stop or certified:
+        options, certified = _rescore(layout, space, obj, src, pool, top_k, constraints,
+                                      sharing)
+        if method != "exhaustive" or stop or certified or sharing:
             break
         capacity *= 8
         notes.append("pool enlarged to certify the top options after re-scoring")
     if method == "exhaustive" and stop:
         certified = False
+    if sharing:
+        certified = False
+        notes.append(f"with current sharing: searched with equal shares, the best "
+                     f"{SHARING_RESCORE} candidates re-scored with the solved sharing")
     if stop:
         notes.append({"budget": "stopped at the time budget: best found so far",
                       "cancelled": "cancelled: best found so far"}.get(stop, stop))
@@ -294,27 +332,33 @@ def _db(base: float, v: float) -> float:
 
 
 def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,  # noqa: ANN001
-             constraints: Sequence[Constraint]) -> tuple[list, bool]:
+             constraints: Sequence[Constraint], sharing: bool = False) -> tuple[list, bool]:
     """Re-score the pool in sampled order with the exact objective; returns (options, certified).
 
     Stops once the next sampled value is at or above the K-th re-scored value, which proves
-    no arrangement left (in the pool or outside it) can enter the top K.
+    no arrangement left (in the pool or outside it) can enter the top K. With ``sharing``
+    the currents of each candidate come from its own sharing solve, the sampled values are
+    no bound, and the first :data:`SHARING_RESCORE` candidates are re-scored instead.
     """
     sampled = np.sqrt(pool.values) * UT
     found: list[tuple[float, dict, int | None, dict]] = []
     names = [c.name for c in layout.conductors]
     certified = False
     for n in range(len(pool)):
-        if len(found) >= top_k and sampled[n] * (1.0 - 1e-9) >= found[top_k - 1][0]:
+        if sharing:
+            if n >= max(SHARING_RESCORE, top_k):
+                break
+        elif len(found) >= top_k and sampled[n] * (1.0 - 1e-9) >= found[top_k - 1][0]:
             certified = True
             break
         a = _closest(space, pool.codes[n].astype(np.int64))
         pos = space.positions_of(a, layout)
-        ok, figs = _check(constraints, layout.with_positions(pos)) if constraints \
-            else (True, {})
+        moved = layout.with_positions(pos)
+        ok, figs = _check(constraints, moved) if constraints else (True, {})
         if not ok:
             continue
-        value = obj.score_uT(src, layout, pos)
+        value = obj.score_uT(sources(moved, sharing_overrides(moved)) if sharing else src,
+                             layout, pos)
         xy = np.array([pos[nm] for nm in names], dtype=float).reshape(-1, 2) * MM
         order = far_field(xy, src.currents).order
         found.append((value, pos, order, figs))

@@ -48,6 +48,14 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--max-exhaustive", default=str(DEFAULT_MAX_EXHAUSTIVE), metavar="N",
                    help="enumerate exactly up to this many distinct arrangements "
                    f"(default {DEFAULT_MAX_EXHAUSTIVE:,}); beyond, a heuristic search")
+    p.add_argument("--sharing", action="store_true",
+                   help="score options with the solved current sharing between parallel "
+                   "conductors instead of equal shares")
+    p.add_argument("--max-imbalance-pct", default=None, metavar="P",
+                   help="keep only options whose parallel conductors share current within "
+                   "P %% ((max-min)/mean of each phase group)")
+    p.add_argument("--max-induced-mv-per-m", default=None, metavar="V",
+                   help="keep only options that induce at most V mV/m in every victim loop")
     p.add_argument("--apply", default=None, metavar="N",
                    help="write a layout with option N to --out NEW.toml")
     p.set_defaults(run=run)
@@ -97,18 +105,41 @@ def options(args: argparse.Namespace) -> dict:
                                                               positive=True),
         "seed": _int("--seed", args.seed, 0),
         "max_exhaustive": _int("--max-exhaustive", args.max_exhaustive, 0),
+        "sharing": bool(getattr(args, "sharing", False)),
+        "max_imbalance_pct": _limit("--max-imbalance-pct",
+                                    getattr(args, "max_imbalance_pct", None)),
+        "max_induced_mv_per_m": _limit("--max-induced-mv-per-m",
+                                       getattr(args, "max_induced_mv_per_m", None)),
     }
+
+
+def _limit(name: str, text: str | None) -> float:
+    """A constraint limit; none given = inf (the figure is listed, nothing is excluded)."""
+    return math.inf if text is None else _float(name, text, positive=True)
 
 
 def compute(layout: Layout, *, distance_mm: float, top_k: int, objective: str | None,
             slots: str | None, bundles: bool, budget_s: float | None, seed: int,
-            max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
+            max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE, sharing: bool = False,
+            max_imbalance_pct: float = math.inf, max_induced_mv_per_m: float = math.inf,
             progress: Callable[[float, str], None] | None = None,
             cancel: Callable[[], bool] | None = None) -> RankResult:
-    """One ranking run (the engine call shared by single and batch runs)."""
+    """One ranking run (the engine call shared by single and batch runs).
+
+    Every option lists its current imbalance and victim EMF (when the layout has parallel
+    conductors or victim loops); finite limits also exclude options.
+    """
+    from trayadvisor.coupling_constraints import imbalance_constraint, induced_voltage_constraint
+
+    constraints = []
+    if not math.isinf(max_imbalance_pct):
+        constraints.append(imbalance_constraint(max_imbalance_pct))
+    if not math.isinf(max_induced_mv_per_m):
+        constraints.append(induced_voltage_constraint(max_induced_mv_per_m, sharing=sharing))
     return rank_layout(layout, distance_mm=distance_mm, top_k=top_k, objective=objective,
                        slots=slots, bundles=bundles, max_exhaustive=max_exhaustive,
-                       budget_s=budget_s, seed=seed, progress=progress, cancel=cancel)
+                       budget_s=budget_s, seed=seed, constraints=tuple(constraints),
+                       sharing=sharing, progress=progress, cancel=cancel)
 
 
 def render(path: str, layout: Layout, r: RankResult) -> str:
