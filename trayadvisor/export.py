@@ -13,12 +13,11 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 import math
 import os
 from pathlib import Path
-from typing import Any
 
+from trayadvisor.jsonsafe import dumps
 from trayadvisor.model import Layout
 from trayadvisor.ranking import RankResult
 
@@ -46,19 +45,9 @@ def export_format(path: str | os.PathLike[str]) -> str:
     return FORMATS[ext]
 
 
-def _clean(obj: Any) -> Any:
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, list | tuple):
-        return [_clean(v) for v in obj]
-    return obj
-
-
 def result_json(result: RankResult) -> str:
     """JSON text of a ranking (inf and NaN become null)."""
-    return json.dumps(_clean(result.to_json()), indent=2, ensure_ascii=False) + "\n"
+    return dumps(result.to_json()) + "\n"
 
 
 def _num(v: float | int | None) -> str:

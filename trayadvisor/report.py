@@ -9,7 +9,6 @@ block in Markdown) for scripts that read reports.
 
 from __future__ import annotations
 
-import json
 import math
 import os
 from dataclasses import dataclass, field
@@ -20,6 +19,7 @@ import numpy as np
 from trayadvisor import __version__
 from trayadvisor.analysis import DEFAULT_DISTANCE_MM, FieldSummary, field_grid_uT, field_summary
 from trayadvisor.analysis import stray_uT as stray_at
+from trayadvisor.jsonsafe import dumps
 from trayadvisor.layoutfile import atomic_write_text, dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
 from trayadvisor.model import Layout
@@ -312,20 +312,9 @@ def json_notes(data: dict | None) -> list[str]:
     return notes
 
 
-def _finite(obj: object) -> object:
-    """inf/NaN become null, as in the CLI's JSON."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
-    if isinstance(obj, list | tuple):
-        return [_finite(v) for v in obj]
-    return obj
-
-
 def embedded_json(content: ReportContent) -> str:
     """The figures as JSON safe inside <script> and XML (no raw <, > or &)."""
-    text = json.dumps(_finite(content.figures_json()), indent=1, ensure_ascii=False)
+    text = dumps(content.figures_json(), indent=1)
     return text.replace("&", "\\u0026").replace("<", "\\u003c").replace(">", "\\u003e")
 
 

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-import json
 import math
 import sys
 from importlib import resources
 from pathlib import Path
 from typing import Any
 
+from trayadvisor.jsonsafe import dumps
 from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
 
@@ -60,19 +60,8 @@ def non_negative(name: str, value: float) -> float:
     return value
 
 
-def _clean(obj: Any) -> Any:
-    """Make floats JSON-safe (inf/NaN become null)."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, list | tuple):
-        return [_clean(v) for v in obj]
-    return obj
-
-
 def dumps_json(obj: Any) -> str:
-    return json.dumps(_clean(obj), indent=2, ensure_ascii=False)
+    return dumps(obj)
 
 
 def print_json(obj: Any) -> None:
