@@ -70,7 +70,7 @@ def test_markdown_lists_options_sketches_and_positions(ranked):
     assert "| rank | field µT |" in text
     for o in res.options:
         assert f"| {o.rank} | {o.max_resultant_uT:.4g} |" in text
-    assert "Idealised model" in text
+    assert "idealised model" in text and "licensed practice" in text  # the cautions
 
 
 @pytest.mark.parametrize("name,fmt", [("a.csv", "csv"), ("a.JSON", "json"), ("a.md", "markdown"),

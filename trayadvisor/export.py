@@ -17,6 +17,7 @@ import math
 import os
 from pathlib import Path
 
+from trayadvisor.cautions import CAUTIONS
 from trayadvisor.jsonsafe import dumps
 from trayadvisor.model import Layout
 from trayadvisor.ranking import RankResult
@@ -25,11 +26,6 @@ from trayadvisor.ranking import RankResult
 FORMATS: dict[str, str] = {".csv": "csv", ".json": "json", ".md": "markdown",
                            ".markdown": "markdown"}
 
-CAUTION = ("Idealised model: long straight conductors in free space, no steel, screens or "
-           "induced currents; measure installed fields (IEC 61786). No ampacity, derating, "
-           "voltage-drop, fault or segregation checks: defer to local wiring rules and "
-           "licensed practice. People with active implants may be affected far below "
-           "exposure reference levels.")
 
 
 class ExportError(ValueError):
@@ -128,7 +124,7 @@ def result_markdown(result: RankResult, title: str = "", layout: Layout | None =
             lines.append(f"| {_md_cell(name)} | {_md_cell(circ)} | {_md_cell(phase)} | "
                          f"{x:.1f} | {y:.1f} | "
                          f"{'' if moved is None else ('yes' if moved else 'no')} |")
-    lines += ["", f"> {CAUTION}", ""]
+    lines += ["", f"> {' '.join(CAUTIONS)}", ""]
     return "\n".join(lines)
 
 

@@ -19,6 +19,7 @@ import numpy as np
 from trayadvisor import __version__
 from trayadvisor.analysis import DEFAULT_DISTANCE_MM, FieldSummary, field_grid_uT, field_summary
 from trayadvisor.analysis import stray_uT as stray_at
+from trayadvisor.cautions import CAUTIONS
 from trayadvisor.jsonsafe import dumps
 from trayadvisor.layoutfile import atomic_write_text, dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
@@ -26,16 +27,6 @@ from trayadvisor.model import Layout
 from trayadvisor.sources import sources
 
 #: SPEC.md "Cautions", in full; every report shows them.
-CAUTIONS: tuple[str, ...] = (
-    "The figures come from an idealised model: long straight conductors in free space, no "
-    "steel or aluminium trays, covers or building steel, no induced currents in screens or "
-    "structures. Measure installed fields (IEC 61786 describes how).",
-    "The tool does not check ampacity, grouping derating, voltage drop, fault withstand, tray "
-    "loading or segregation distances: defer to the local wiring rules and to licensed "
-    "practice.",
-    "People with active implanted medical devices may be affected at levels far below the "
-    "general exposure reference levels.",
-)
 LIMITS_NOTE = (
     "Library levels are compared at the system frequency. A field with harmonics (or a DC "
     "component) strictly needs the multi-frequency assessment the documents describe; the "

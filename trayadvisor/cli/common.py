@@ -8,16 +8,10 @@ from importlib import resources
 from pathlib import Path
 from typing import Any
 
+from trayadvisor.cautions import CAUTION_LINE  # noqa: F401  (re-exported for commands)
 from trayadvisor.jsonsafe import dumps
 from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
-
-CAUTION_LINE = (
-    "Caution: idealised model (long straight conductors in free space, no steel, screens or "
-    "induced currents); measure installed fields; no ampacity, derating, voltage-drop, fault "
-    "or segregation checks; people with active implants may be affected far below exposure "
-    "reference levels; defer to local wiring rules and licensed practice."
-)
 
 
 class UserError(Exception):

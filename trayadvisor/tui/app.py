@@ -20,7 +20,8 @@ from textual.message import Message
 from textual.worker import get_current_worker
 
 from trayadvisor.analysis import FieldSummary, LimitFigure
-from trayadvisor.cli.common import CAUTION_LINE, demo_path
+from trayadvisor.cautions import CAUTION_LINE
+from trayadvisor.cli.common import demo_path
 from trayadvisor.layoutfile import read_layout
 from trayadvisor.model import Layout, Limit
 from trayadvisor.tui.compute import Failed, LimitDone, Result, SummaryDone, run_analysis

@@ -10,19 +10,8 @@ from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
-from trayadvisor.cli.common import CAUTION_LINE
+from trayadvisor.cautions import CAUTION_LINE, CAUTIONS
 from trayadvisor.tui.screens.dialogs import Dialog
-
-#: The full cautions (the product specification's "Cautions").
-CAUTIONS = (
-    "The figures come from an idealised model: long straight conductors in free space, no "
-    "steel or aluminium trays, covers or building steel, no induced currents in screens or "
-    "structures. Measure installed fields (IEC 61786 describes how). trayadvisor does not "
-    "check ampacity, grouping derating, voltage drop, fault withstand, tray loading or "
-    "segregation distances: defer to the local wiring rules and to licensed practice. "
-    "People with active implanted medical devices may be affected at levels far below the "
-    "general exposure reference levels."
-)
 
 GLYPHS = (
     "Conductors: circuit tag + phase glyph, e.g. A1 = circuit A, phase L1 "
@@ -51,7 +40,7 @@ class HelpScreen(Dialog[None]):
         t.append("trayadvisor: cable-tray conductor layout for low stray field\n\n",
                  style="bold")
         t.append("CAUTIONS\n", style="bold")
-        t.append(CAUTIONS + "\n\n")
+        t.append(" ".join(CAUTIONS) + "\n\n")
         t.append("Views\n", style="bold")
         for key, title, desc in self.views:
             t.append(f"  {key:<6} {title:<9} {desc}\n")

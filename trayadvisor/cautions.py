@@ -1,0 +1,21 @@
+"""The cautions every output shows (README, UI help, CLI output, exports and reports)."""
+
+#: The full cautions, one paragraph each.
+CAUTIONS: tuple[str, ...] = (
+    "The figures come from an idealised model: long straight conductors in free space, no "
+    "steel or aluminium trays, covers or building steel, no induced currents in screens or "
+    "structures. Measure installed fields (IEC 61786 describes how).",
+    "The tool does not check ampacity, grouping derating, voltage drop, fault withstand, tray "
+    "loading or segregation distances: defer to the local wiring rules and to licensed "
+    "practice.",
+    "People with active implanted medical devices may be affected at levels far below the "
+    "general exposure reference levels.",
+)
+
+#: The same in one line, for terminal output.
+CAUTION_LINE = (
+    "Caution: idealised model (long straight conductors in free space, no steel, screens or "
+    "induced currents); measure installed fields; no ampacity, derating, voltage-drop, fault "
+    "or segregation checks; people with active implants may be affected far below exposure "
+    "reference levels; defer to local wiring rules and licensed practice."
+)
