@@ -2,13 +2,18 @@
 
 Large spaces have many poor local optima for swap moves, but the good arrangements of
 parallel sets share structure that common practice names: each set laid together (one
-conductor of each phase in a block of neighbouring places) and the sequence mirrored about
-the tray's centre line. Each such restriction is a search space of its own, far smaller:
+conductor of each phase in a block of neighbouring places), the sequence mirrored about
+the tray's centre line, and neighbouring sets laid as point images of each other. Each
+such restriction is a search space of its own, far smaller:
 
-1. sets kept together in blocks along each layer, and mirror-invariant (when the problem is
+1. with bundles: neighbouring groups paired as point images (:mod:`trayadvisor.ranking_sets`);
+2. sets kept together in blocks along each layer, and mirror-invariant (when the problem is
    mirror-symmetric) — usually small enough to enumerate exactly;
-2. sets kept together in blocks along each layer;
-3. mirror-invariant arrangements (:mod:`trayadvisor.ranking_symmetric`).
+3. sets kept together in blocks along each layer, neighbouring blocks paired as point images
+   of each other (each pair's dipole moment vanishes) — one sub-problem per pairing
+   direction, usually enumerated exactly;
+4. sets kept together in blocks along each layer;
+5. mirror-invariant arrangements (:mod:`trayadvisor.ranking_symmetric`).
 
 Their best arrangements enter the pool and start the unrestricted iterated local search
 (:func:`trayadvisor.ranking_local.run_local`), which is free to leave every restriction.
@@ -26,6 +31,7 @@ from trayadvisor.ranking_build import build_space, find_mirror
 from trayadvisor.ranking_eval import Pool, Tables
 from trayadvisor.ranking_exhaustive import exhaustive
 from trayadvisor.ranking_local import SearchStats, run_local
+from trayadvisor.ranking_sets import paired_subproblems
 from trayadvisor.ranking_slots import RankError
 from trayadvisor.ranking_space import Space
 from trayadvisor.ranking_symmetric import mirror_subproblem
@@ -68,16 +74,22 @@ def _block_space(layout: Layout, space: Space, tables: Tables, identity: bool
     return blk, t, expand
 
 
+def _compose(inner: Problem, outer: Callable[[np.ndarray], np.ndarray]) -> Problem:
+    sub, red, expand = inner
+    return sub, red, lambda c: outer(expand(c))
+
+
 def _problems(layout: Layout, space: Space, tables: Tables, identity: bool) -> list[Problem]:
     out: list[Problem] = []
+    if space.groups:  # bundles asked for: pair the groups of the space itself
+        out.extend(paired_subproblems(space, tables))
     blk = _block_space(layout, space, tables, identity)
     if blk is not None:
         b_space, b_tables, b_expand = blk
         sym = mirror_subproblem(b_space, b_tables)
         if sym is not None:
-            s_space, s_tables, s_expand = sym
-            out.append((s_space, s_tables,
-                        lambda c, f=s_expand, g=b_expand: g(f(c))))  # type: ignore[misc]
+            out.append(_compose(sym, b_expand))
+        out.extend(_compose(p, b_expand) for p in paired_subproblems(b_space, b_tables))
         out.append(blk)
     sym = mirror_subproblem(space, tables)
     if sym is not None:

@@ -1,270 +1,173 @@
-"""Set-level search: each bundled group of places is one unit with a handful of contents.
+"""The paired-sets sub-problem: neighbouring parallel sets laid as point images of each other.
 
-In a space with groups (:mod:`trayadvisor.ranking_space`) a group holds one parallel set, and
-what matters is *which* arrangement of the set's kinds it holds (for a three-phase set one of
-3! = 6 phase orders) and, between groups of one shape, which set type it holds. Every such
-*option* of a group has a precomputed field ``U[o] = Σ_j V[start + j, content_o[j]]``, so the
-arrangement's field is ``F' + Σ_g U[option_g]`` (``F'``: fixed conductors plus the free cells,
-held constant here) and changing the options of one or two groups costs O(points).
+Two groups of places ``g`` and ``h`` whose union is symmetric about its centre ``c`` (every
+place ``p`` of ``g`` has the place ``2c − p`` in ``h``, of the same diameter) can hold the
+same set type with the kinds at point-reflected places equal. The pair then carries every
+current twice, at ``p`` and ``2c − p``, so its dipole moment about ``c`` vanishes, and with it
+every odd multipole term of the pair: the field falls off at least one order faster. Laying
+a set beside its point image is common practice for parallel sets ("L1 L2 L3 | L3 L2 L1"
+in a row is the point image about the gap; for stacked layers, the set below holds the
+sequence reversed).
 
-The neighbourhood is every change of one group's option and every change of two groups'
-options at once (a pair may also trade set types), e.g. 16 three-phase groups give
-16 × 5 single and 120 × 25 pair moves. As in :mod:`trayadvisor.ranking_local`, each step
-screens all moves on the few points where the field peaks and evaluates the most promising
-ones on every point. Local optima are kicked by a few random group moves (iterated local
-search); after a run of failures the search restarts from one of the best found.
+The pairs come from one *direction*: all pairs of groups whose centres differ by the same
+vector (up to sign), matched greedily along that vector, so every pair is laid the same way.
+The restricted space keeps one representative group per pair (its table row is the sum of
+the pair's rows, so the field is unchanged), the unmatched groups and the free cells; it is
+far smaller than the bundled space (6⁸ instead of 6¹⁶ for 16 three-phase sets) and usually
+enumerated exactly.
 """
 
 from __future__ import annotations
 
-import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.ranking_enum import cartesian, multiset_sequences
-from trayadvisor.ranking_eval import Pool, Tables
-from trayadvisor.ranking_local import SearchStats
-from trayadvisor.ranking_space import Space
+from trayadvisor.ranking_eval import Tables
+from trayadvisor.ranking_space import TOL_MM, Group, Space
 
-MAX_OPTIONS = 120  #: a group with more contents than this is not searched at set level
-MAX_PAIRS = 400_000  #: beyond this many pair moves only single-group moves are used
-_SCREEN_POINTS = 8
-_BATCH = 24
-_MAX_BATCHES = 4
-_RESTART_AFTER = 24  # failed kicks before a restart from the elite (at least; or 2 G)
+MAX_GROUPS = 256  #: larger spaces are not paired (the pair search is quadratic in groups)
+MAX_DIRECTIONS = 2  #: pairing directions tried, shortest first
+_MIN_COVER = 0.9  # a direction is used when its pairs cover at least this share of groups
+
+Problem = tuple[Space, Tables, Callable[[np.ndarray], np.ndarray]]
 
 
-class SetMoves:
-    """Options of every group, their fields, and the static move lists.
+def _key(x: float, y: float, d: float) -> tuple[int, int, int]:
+    q = 10 * TOL_MM
+    return (round(x / q), round(y / q), round(d / q))
 
-    Parameters
-    ----------
-    space : Space
-        Must have groups.
-    tables : Tables
-    a0 : (J,) int
-        An arrangement of ``space``; its free cells are held fixed.
+
+def _image(space: Space, g: int, h: int, where: dict[tuple[int, int, int], int]
+           ) -> np.ndarray | None:
+    """Places of ``h`` that are the point images of ``g``'s places through the pair centre."""
+    gg, hh = space.groups[g], space.groups[h]
+    if gg.shape != hh.shape:
+        return None
+    pos, dia = space.positions_mm, space.diameters_mm
+    c = 0.5 * (pos[gg.start:gg.stop].mean(axis=0) + pos[hh.start:hh.stop].mean(axis=0))
+    out = np.empty(gg.stop - gg.start, dtype=np.int64)
+    for n, j in enumerate(range(gg.start, gg.stop)):
+        k = where.get(_key(2 * c[0] - pos[j, 0], 2 * c[1] - pos[j, 1], dia[j]), -1)
+        if not hh.start <= k < hh.stop:
+            return None
+        out[n] = k
+    return out
+
+
+def pairings(space: Space) -> list[list[tuple[int, int, np.ndarray]]]:
+    """Matchings of groups into point-image pairs, one per direction, shortest first.
+
+    Each matching is a list of ``(g, h, image)`` with ``image[n]`` the place of ``h`` that
+    mirrors place ``start_g + n`` through the pair's centre.
     """
+    groups = space.groups
+    n = len(groups)
+    if n < 2 or n > MAX_GROUPS:
+        return []
+    pos = space.positions_mm
+    where = {_key(x, y, d): j for j, ((x, y), d) in enumerate(zip(pos, space.diameters_mm,
+                                                                  strict=True))}
+    cen = np.array([pos[g.start:g.stop].mean(axis=0) for g in groups])
+    by_dir: dict[tuple[int, int], list[tuple[int, int, np.ndarray]]] = {}
+    for g in range(n):
+        for h in range(g + 1, n):
+            img = _image(space, g, h, where)
+            if img is None:
+                continue
+            d = cen[h] - cen[g]
+            if d[0] < -TOL_MM or (abs(d[0]) <= TOL_MM and d[1] < 0):
+                d = -d
+            q = 1e3 * TOL_MM
+            by_dir.setdefault((round(d[0] / q), round(d[1] / q)), []).append((g, h, img))
+    out = []
+    for dkey in sorted(by_dir, key=lambda k: (k[0] ** 2 + k[1] ** 2, k)):
+        d = np.array(dkey, dtype=float)
+        cands = sorted(by_dir[dkey], key=lambda p: (float(cen[p[0]] @ d) + float(cen[p[1]] @ d),
+                                                    tuple(cen[p[0]])))
+        used: set[int] = set()
+        chosen = []
+        for g, h, img in cands:
+            if g in used or h in used:
+                continue
+            used.update((g, h))
+            chosen.append((g, h, img))
+        if 2 * len(chosen) >= _MIN_COVER * n:
+            out.append(chosen)
+        if len(out) >= MAX_DIRECTIONS:
+            break
+    return out
 
-    def __init__(self, space: Space, tables: Tables, a0: np.ndarray) -> None:
-        self.space, self.t = space, tables
-        a0 = np.asarray(a0, dtype=np.int64)
-        contents, group_of, type_of = [], [], []
-        for g, grp in enumerate(space.groups):
-            for t in range(len(space.type_counts)):
-                if space.type_shape(t) != grp.shape:
-                    continue
-                parts = [multiset_sequences(c, e - s)[0] for s, e, c in space.group_cells(g, t)]
-                rows = cartesian(parts)
-                contents.extend(rows)
-                group_of.extend([g] * rows.shape[0])
-                type_of.extend([t] * rows.shape[0])
-        self.contents = contents  # (O,) rows, each of its group's length
-        self.group_of = np.array(group_of, dtype=np.int64)
-        self.type_of = np.array(type_of, dtype=np.int64)
-        n_opt = np.bincount(self.group_of, minlength=len(space.groups))
-        self.ok = bool(len(space.groups)) and int(n_opt.max(initial=0)) <= MAX_OPTIONS
-        if not self.ok:
-            return
-        v = tables.V
-        u = np.empty((len(contents) + 1, v.shape[2], v.shape[3]))
-        for o, row in enumerate(contents):
-            grp = space.groups[int(self.group_of[o])]
-            u[o] = v[np.arange(grp.start, grp.stop), row].sum(axis=0)
-        u[-1] = 0.0  # the "no second group" option of single moves
-        self.U = u
-        self.none = len(contents)
-        key = {(int(g), np.asarray(row).tobytes()): o
-               for o, (g, row) in enumerate(zip(self.group_of, contents, strict=True))}
-        self._key = key
-        g_all = len(space.groups)
-        # static move list: (o1, o2) with group(o1) < group(o2), plus singles (o, none)
-        opts = [np.nonzero(self.group_of == g)[0] for g in range(g_all)]
-        p1, p2 = [np.arange(self.none)], [np.full(self.none, self.none)]
-        n_pairs = sum(opts[g].size * opts[h].size for g in range(g_all)
-                      for h in range(g + 1, g_all))
-        if n_pairs <= MAX_PAIRS:
-            for g in range(g_all):
-                for h in range(g + 1, g_all):
-                    i, j = np.meshgrid(opts[g], opts[h], indexing="ij")
-                    p1.append(i.ravel())
-                    p2.append(j.ravel())
-        self.m1 = np.concatenate(p1)
-        self.m2 = np.concatenate(p2)
-        self.free = a0.copy()
-        self.options_of = opts
 
-    # -- arrangements <-> options -------------------------------------------------------
-    def state(self, a: np.ndarray) -> np.ndarray:
-        """(G,) option index of every group in arrangement ``a``."""
-        out = np.empty(len(self.space.groups), dtype=np.int64)
-        for g, grp in enumerate(self.space.groups):
-            out[g] = self._key[(g, np.ascontiguousarray(a[grp.start:grp.stop],
-                                                        dtype=np.int64).tobytes())]
+def paired_subproblem(space: Space, tables: Tables,
+                      pairs: list[tuple[int, int, np.ndarray]]) -> Problem | None:
+    """(reduced space, reduced tables, expand) for one matching, or None if it cannot hold.
+
+    Paired groups hold two sets of one type, so every set type of a shape whose groups are
+    all paired must occur an even number of times; a shape with unpaired groups must have
+    one set type only (any group may then take any set).
+    """
+    if not pairs:
+        return None
+    partner_of = {g: (h, img) for g, h, img in pairs}
+    paired = set(partner_of) | {h for _, h, _ in pairs}
+    unpaired = [g for g in range(len(space.groups)) if g not in paired]
+    counts = space.type_counts.copy()
+    for members in space.shape_classes():
+        shape = space.groups[int(members[0])].shape
+        types = [t for t in range(counts.size) if space.type_shape(t) == shape]
+        loose = sum(int(g) in unpaired for g in members)
+        if loose == 0:
+            if any(counts[t] % 2 for t in types):
+                return None
+            for t in types:
+                counts[t] //= 2
+        elif len(types) == 1 and counts[types[0]] == members.size:
+            counts[types[0]] = members.size - (members.size - loose) // 2
+        else:
+            return None
+    reps: list[np.ndarray] = []
+    images: list[np.ndarray] = []
+    cells, groups, start = [], [], 0
+    for s, e, c in space.free_cells:
+        reps.append(np.arange(s, e))
+        images.append(np.arange(s, e))
+        cells.append((start, start + e - s, c))
+        start += e - s
+    for g in sorted(set(partner_of) | set(unpaired)):
+        grp = space.groups[g]
+        idx = np.arange(grp.start, grp.stop)
+        reps.append(idx)
+        images.append(partner_of[g][1] if g in partner_of else idx)
+        shift = start - grp.start
+        groups.append(Group(grp.start + shift, grp.stop + shift,
+                            tuple((a + shift, b + shift) for a, b in grp.subcells), grp.shape))
+        start += grp.stop - grp.start
+    rep, img = np.concatenate(reps), np.concatenate(images)
+    own = img == rep
+    sub = Space(space.positions_mm[rep], space.diameters_mm[rep], space.kinds, tuple(cells),
+                tuple(groups), space.set_types, counts, space.fixed, None, space.rule)
+    red = object.__new__(Tables)
+    red.V = np.ascontiguousarray(np.where(own[:, None, None, None], tables.V[rep],
+                                          tables.V[rep] + tables.V[img]))
+    red.F, red.pts_m, red._stage = tables.F, tables.pts_m, None
+    n_full = space.n_positions
+
+    def expand(codes: np.ndarray) -> np.ndarray:
+        codes = np.asarray(codes).reshape(-1, rep.size)
+        out = np.empty((codes.shape[0], n_full), dtype=np.int64)
+        out[:, rep] = codes
+        out[:, img] = codes
         return out
 
-    def arrangement(self, cur: np.ndarray) -> np.ndarray:
-        a = self.free.copy()
-        for g, grp in enumerate(self.space.groups):
-            a[grp.start:grp.stop] = self.contents[int(cur[g])]
-        return a
-
-    def field(self, cur: np.ndarray) -> np.ndarray:
-        """(P, C) field of the arrangement with group options ``cur``."""
-        return self.t.fields(self.arrangement(cur))[0]
-
-    # -- moves ----------------------------------------------------------------------------
-    def valid(self, cur: np.ndarray) -> np.ndarray:
-        """Mask over the move list: moves that change something and keep every type count."""
-        g1, g2 = self.group_of[self.m1], self.group_of[np.minimum(self.m2, self.none - 1)]
-        t1, t2 = self.type_of[self.m1], self.type_of[np.minimum(self.m2, self.none - 1)]
-        single = self.m2 == self.none
-        c1, c2 = cur[g1], cur[g2]
-        ct1, ct2 = self.type_of[c1], self.type_of[c2]
-        keep = (t1 == ct1) & (single | (t2 == ct2))
-        swap = ~single & (t1 == ct2) & (t2 == ct1) & (ct1 != ct2)
-        changed = (self.m1 != c1) & (single | (self.m2 != c2))
-        return (keep | swap) & changed
-
-    def moved(self, cur: np.ndarray, k: int) -> np.ndarray:
-        out = cur.copy()
-        out[self.group_of[self.m1[k]]] = self.m1[k]
-        if self.m2[k] != self.none:
-            out[self.group_of[self.m2[k]]] = self.m2[k]
-        return out
-
-    def delta(self, cur: np.ndarray, ks: np.ndarray, q: np.ndarray | slice = slice(None)
-              ) -> np.ndarray:
-        """(N, P', C) change of the field of moves ``ks`` on points ``q``."""
-        u = self.U[:, q]
-        o1, o2 = self.m1[ks], self.m2[ks]
-        d = u[o1] - u[cur[self.group_of[o1]]]
-        two = o2 != self.none
-        if two.any():
-            d[two] += u[o2[two]] - u[cur[self.group_of[o2[two]]]]
-        return d
+    return sub, red, expand
 
 
-class SetSearch:
-    """Descents and kicks at set level (see the module notes)."""
-
-    def __init__(self, moves: SetMoves, rng: np.random.Generator,
-                 stats: SearchStats | None = None) -> None:
-        self.mv, self.rng = moves, rng
-        self.stats = stats if stats is not None else SearchStats()
-
-    def descend(self, cur: np.ndarray, pool: Pool | None = None
-                ) -> tuple[np.ndarray, np.ndarray, float]:
-        """Improve ``cur`` until no single or pair move lowers the maximum."""
-        mv = self.mv
-        cur = cur.copy()
-        s = mv.field(cur)
-        while True:
-            r2 = np.einsum("pc,pc->p", s, s)
-            m = float(r2.max())
-            q = np.argpartition(r2, -min(_SCREEN_POINTS, r2.size))[-_SCREEN_POINTS:]
-            ks = np.nonzero(mv.valid(cur))[0]
-            d = mv.delta(cur, ks, q) + s[q]
-            b = np.einsum("npc,npc->np", d, d).max(axis=1)
-            self.stats.screened += int(b.size)
-            keep = b < m
-            ks, b = ks[keep], b[keep]
-            order = ks[np.argsort(b, kind="stable")]
-            improved = False
-            for k0 in range(0, min(order.size, _BATCH * _MAX_BATCHES), _BATCH):
-                sel = order[k0:k0 + _BATCH]
-                full = mv.delta(cur, sel) + s
-                val = np.einsum("npc,npc->np", full, full).max(axis=1)
-                self.stats.evaluated += int(sel.size)
-                if pool is not None:
-                    pool.add(np.stack([mv.arrangement(mv.moved(cur, int(k))) for k in sel]),
-                             val)
-                best = int(np.argmin(val))
-                if val[best] < m * (1.0 - 1e-12):
-                    s = full[best]
-                    cur = mv.moved(cur, int(sel[best]))
-                    improved = True
-                    break
-            if not improved:
-                self.stats.descents += 1
-                if pool is not None:
-                    pool.add(mv.arrangement(cur)[None], np.array([m]))
-                return cur, s, m
-
-    def kick(self, cur: np.ndarray, n: int) -> np.ndarray:
-        """``cur`` after ``n`` random valid moves."""
-        for _ in range(n):
-            ks = np.nonzero(self.mv.valid(cur))[0]
-            if ks.size == 0:
-                break
-            cur = self.mv.moved(cur, int(ks[self.rng.integers(ks.size)]))
-        return cur
-
-
-def run_sets(space: Space, tables: Tables, pool: Pool, starts: Sequence[np.ndarray], *,
-             seed: int, patience: int, deadline: float | None = None,
-             max_evaluations: int | None = None, cancel: Callable[[], bool] | None = None,
-             tick: Callable[[SearchStats, float], None] | None = None,
-             stats: SearchStats | None = None) -> SearchStats | None:
-    """Iterated local search at set level from ``starts`` (arrangements of ``space``).
-
-    The free cells of the first start are held fixed. Stops like
-    :func:`trayadvisor.ranking_local.run_local`. Returns None (nothing done) when the space
-    has no groups or a group has too many contents.
-    """
-    if not space.groups or not starts:
-        return None
-    mv = SetMoves(space, tables, starts[0])
-    if not mv.ok:
-        return None
-    ss = SetSearch(mv, np.random.default_rng(seed), stats)
-    elite: list[tuple[float, np.ndarray]] = []
-
-    def remember(cur: np.ndarray, m: float) -> None:
-        if any(np.array_equal(cur, c) for _, c in elite):
-            return
-        elite.append((m, cur))
-        elite.sort(key=lambda e: e[0])
-        del elite[8:]
-
-    found = []
-    for a in starts:
-        found.append(ss.descend(mv.state(np.asarray(a, dtype=np.int64)), pool))
-        remember(found[-1][0], found[-1][2])
-    inc, _, inc_m = min(found, key=lambda f: f[2])
-    best, since, last, runs, fails = inc_m, 0, 0, 0, 0
-    g = len(space.groups)
-    restart_after = max(_RESTART_AFTER, 2 * g)
-    kick_max = max(2, min(4, g // 3))
-    while since < patience or since < last:
-        if cancel is not None and cancel():
-            ss.stats.stopped = "cancelled"
-            break
-        if deadline is not None and time.perf_counter() >= deadline:
-            ss.stats.stopped = "budget"
-            break
-        if max_evaluations is not None and ss.stats.evaluated >= max_evaluations:
-            ss.stats.stopped = "evaluations"
-            break
-        if fails >= restart_after:
-            c0 = ss.kick(elite[int(ss.rng.integers(len(elite)))][1], 2 * kick_max)
-            fails, inc_m = 0, np.inf
-        else:
-            c0 = ss.kick(inc, int(ss.rng.integers(2, kick_max + 1)))
-        c1, _, m1 = ss.descend(c0, pool)
-        remember(c1, m1)
-        runs += 1
-        if m1 < inc_m * (1.0 - 1e-12):
-            inc, inc_m, fails = c1, m1, 0
-        else:
-            fails += 1
-            if m1 <= inc_m:
-                inc = c1
-        if m1 < best * (1.0 - 1e-12):
-            best, since, last = m1, 0, runs
-        else:
-            since += 1
-        if tick is not None:
-            tick(ss.stats, best)
-    return ss.stats
+def paired_subproblems(space: Space, tables: Tables) -> list[Problem]:
+    """The paired-sets sub-problems of ``space``, one per pairing direction."""
+    out = []
+    for pairs in pairings(space):
+        p = paired_subproblem(space, tables, pairs)
+        if p is not None:
+            out.append(p)
+    return out
