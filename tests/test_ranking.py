@@ -247,7 +247,7 @@ def test_cancel_and_budget_keep_the_best_found_so_far():
     lay = flat_sets(6)
     res = rank_layout(lay, top_k=2, cancel=lambda: True)
     assert res.stopped_early and res.options and not res.certified
-    res = rank_layout(lay, top_k=2, max_exhaustive=0, budget_s=0.2)
+    res = rank_layout(lay, top_k=2, max_exhaustive=0, budget_s=0.2, patience=10**9)
     assert res.stopped_early and res.method == "heuristic" and res.options
     calls = []
     rank_layout(flat_sets(4), top_k=1, max_exhaustive=0, budget_s=0.6, patience=10**9,

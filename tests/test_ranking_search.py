@@ -222,3 +222,19 @@ def test_heuristic_finds_the_exhaustive_optimum_in_two_layers():
     # Source: the certified exhaustive optimum of the same layout.
     assert heur.options[0].max_resultant_uT == pytest.approx(
         exact.options[0].max_resultant_uT, rel=1e-9)
+
+
+def test_heuristic_with_bundles_keeps_sets_together_and_finds_the_optimum():
+    lay = stacked(2, 2)
+    exact = rank_layout(lay, top_k=3, bundles=True)
+    heur = rank_layout(lay, top_k=3, bundles=True, max_exhaustive=0, seed=2)
+    assert exact.certified and heur.method == "heuristic"
+    # Source: the certified exhaustive optimum of the same bundled space.
+    assert heur.options[0].max_resultant_uT == pytest.approx(
+        exact.options[0].max_resultant_uT, rel=1e-9)
+    space = build_space(lay, bundles=True)
+    groups = [{tuple(p) for p in space.positions_mm[g.start:g.stop]} for g in space.groups]
+    for o in heur.options:
+        for g in groups:  # every group of places holds one complete set (L1, L2, L3)
+            phases = sorted(c.phase for c in lay.conductors if o.positions[c.name] in g)
+            assert phases == ["L1", "L2", "L3"]
