@@ -15,6 +15,12 @@ speed is a plain baseline measured in the same run: arrangements scored one by o
 
 from __future__ import annotations
 
+import os
+
+# One BLAS thread, as the command-line entry points use (trayadvisor/cli/__init__.py).
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
 import argparse
 import statistics
 import time
