@@ -65,7 +65,7 @@ def test_flux_density_agrees_with_the_documents_field_strength():
     assert 160 * UT_PER_A_PER_M == pytest.approx(find("ICNIRP 2010 general public").ut, rel=6e-3)
     assert 800 * UT_PER_A_PER_M == pytest.approx(find("ICNIRP 2010 occupational").ut, rel=6e-3)
     # Source: IEEE C95.1-2019 Table 2 (the successor of C95.6), head and trunk 719 A/m and
-    # 2160 A/m, from a third-party transcription (from memory as to C95.6 itself).
+    # 2160 A/m, from a third-party copy (from memory as to C95.6 itself).
     assert 719 * UT_PER_A_PER_M == pytest.approx(find("IEEE C95.6 general public").ut, rel=1e-3)
     assert 2160 * UT_PER_A_PER_M == pytest.approx(find("IEEE C95.6 controlled").ut, rel=2e-3)
 

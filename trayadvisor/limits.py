@@ -89,7 +89,7 @@ _ICNIRP_COPY = ("checked against a reproduction of the reference-level tables of
                 "Phys. 99:818-836 (0.2e-3 T general public, 1e-3 T occupational)")
 _EU = "Directive 2013/35/EU, Annex II, Table B2"
 _IEEE = "IEEE Std C95.6-2002, Table 2 (MPE, head and torso)"
-_IEEE_NOTE = ("recalled, not checked against C95.6 itself; consistent with a transcription of "
+_IEEE_NOTE = ("recalled, not checked against C95.6 itself; consistent with a copy of "
               "its successor IEEE C95.1-2019 Table 2 (719 A/m and 2160 A/m, i.e. 0.904 mT and "
               "2.71 mT)")
 _IEC = "IEC 61000-4-8:2009, Table 1 (continuous field)"
