@@ -25,6 +25,7 @@ from trayadvisor.layoutfile import atomic_write_text, dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
 from trayadvisor.model import Layout
 from trayadvisor.sources import sources
+from trayadvisor.wording import decay_text
 
 #: SPEC.md "Cautions", in full; every report shows them.
 LIMITS_NOTE = (
@@ -199,13 +200,12 @@ def _cell(v: float | None) -> Cell:
 
 def summary_rows(c: ReportContent) -> list[list[Cell | str]]:
     s = c.summary
-    order = {1: "1/r (net current)", 2: "1/r² (dipole)", 3: "1/r³ (quadrupole)"}
     rows: list[list[Cell | str]] = [
         [f"stray field at d = {s.distance_mm:g} mm (resultant RMS, µT)",
          _cell(s.max_resultant_uT)],
         ["where it peaks, x (mm)", _cell(s.max_at_mm[0])],
         ["where it peaks, y (mm)", _cell(s.max_at_mm[1])],
-        ["far-field decay", order.get(s.far_field_order or 0, str(s.far_field_order))],
+        ["far-field decay", decay_text(s.far_field_order)],
         ["far-field leading term at 1 m (µT)", _cell(s.far_field_uT_at_1m)],
     ]
     for p in (*s.points, *s.named_points):

@@ -20,6 +20,7 @@ from trayadvisor.batch import FileResult, run_files
 from trayadvisor.cli.common import CAUTION_LINE, UserError, fmt_ut, print_json
 from trayadvisor.layoutfile import atomic_write_text
 from trayadvisor.model import Layout
+from trayadvisor.wording import decay_text
 
 FIELD_COLUMNS: tuple[str, ...] = (
     "file", "status", "error", "distance_mm", "max_resultant_uT", "max_at_x_mm", "max_at_y_mm",
@@ -84,9 +85,8 @@ def csv_text(results: list[FileResult], columns: tuple[str, ...]) -> str:
 def human_line(kind: str, r: FileResult) -> str:
     row = r.row
     if kind == "field":
-        from trayadvisor.cli.cmd_field import ORDER_WORDS
 
-        order = ORDER_WORDS.get(row["far_field_order"] or 0, f"order {row['far_field_order']}")
+        order = decay_text(row["far_field_order"])
         return (f"{r.file}: {fmt_ut(row['max_resultant_uT'])} µT at {row['distance_mm']:g} mm;"
                 f" far field {order}; {row['limits_failed']} of {row['limits']} limit(s) failed")
     red = row["reduction_pct"]

@@ -16,8 +16,7 @@ from trayadvisor.cli.common import (
     print_json,
 )
 from trayadvisor.model import Layout
-
-ORDER_WORDS = {1: "1/r (net current)", 2: "1/r² (dipole)", 3: "1/r³ (quadrupole)"}
+from trayadvisor.wording import decay_text
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -64,8 +63,7 @@ def compute(layout: Layout, distance_mm: float, at: list, limits: list,
 
 
 def render(path: str, layout: Layout, s: FieldSummary) -> str:
-    order = ORDER_WORDS.get(s.far_field_order or 0,
-                            f"1/r^{s.far_field_order}" if s.far_field_order else "no field")
+    order = decay_text(s.far_field_order)
     rows = [
         f"{path}: {layout.title or '(untitled)'}",
         f"  stray field at {s.distance_mm:g} mm: {fmt_ut(s.max_resultant_uT)} µT "

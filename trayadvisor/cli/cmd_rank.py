@@ -17,9 +17,9 @@ from trayadvisor.model import Layout
 from trayadvisor.ranking import DEFAULT_MAX_EXHAUSTIVE, RankError, RankResult, rank_layout
 from trayadvisor.ranking_sketch import sketch
 from trayadvisor.ranking_slots import SLOT_RULES
+from trayadvisor.wording import decay_text
 
 PREFIX = "trayadvisor rank"
-ORDER_WORDS = {1: "1/r", 2: "1/r²", 3: "1/r³"}
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -156,7 +156,7 @@ def render(path: str, layout: Layout, r: RankResult) -> str:
         figs = "".join(f"  {k} {v:.3g}" for k, v in o.figures.items())
         rows.append(f"  {o.rank:>4}  {fmt_ut(o.max_resultant_uT):>9}  "
                     f"{o.reduction_pct:>7.1f} %  {db:>6}  "
-                    f"{ORDER_WORDS.get(o.far_field_order or 0, o.far_field_order or '-')}"
+                    f"{decay_text(o.far_field_order, short=True, none='-')}"
                     f"{figs}")
     rows.append("  now:")
     rows += ["    " + ln for ln in sketch(layout, r.baseline_positions).splitlines()]

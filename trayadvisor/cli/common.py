@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import math
 import sys
-from importlib import resources
 from pathlib import Path
 from typing import Any
 
@@ -12,15 +11,11 @@ from trayadvisor.cautions import CAUTION_LINE  # noqa: F401  (re-exported for co
 from trayadvisor.jsonsafe import dumps
 from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
+from trayadvisor.wording import demo_path, fmt_mm, fmt_ut  # noqa: F401  (re-exported)
 
 
 class UserError(Exception):
     """A clean one-line error for the user (exit status 2)."""
-
-
-def demo_path() -> Path:
-    """Path of the built-in demo layout shipped in the package."""
-    return Path(str(resources.files("trayadvisor") / "data" / "demo.toml"))
 
 
 def load(path: str | Path) -> Layout:
@@ -62,20 +57,3 @@ def print_json(obj: Any) -> None:
     sys.stdout.write(dumps_json(obj) + "\n")
 
 
-def fmt_ut(v: float) -> str:
-    """µT with sensible significant figures."""
-    if not math.isfinite(v):
-        return "inf"
-    if v == 0:
-        return "0"
-    if abs(v) >= 100:
-        return f"{v:.0f}"
-    if abs(v) >= 1:
-        return f"{v:.3g}" if abs(v) < 10 else f"{v:.1f}"
-    return f"{v:.3g}"
-
-
-def fmt_mm(v: float) -> str:
-    if not math.isfinite(v):
-        return "beyond 100 m"
-    return f"{v:.0f} mm"

@@ -21,7 +21,6 @@ from textual.worker import get_current_worker
 
 from trayadvisor.analysis import FieldSummary, LimitFigure
 from trayadvisor.cautions import CAUTION_LINE
-from trayadvisor.cli.common import demo_path
 from trayadvisor.layoutfile import read_layout
 from trayadvisor.model import Layout, Limit
 from trayadvisor.tui.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
@@ -33,6 +32,7 @@ from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.help import HelpScreen
 from trayadvisor.tui.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
 from trayadvisor.tui.views import VIEWS, ViewSpec
+from trayadvisor.wording import demo_path
 
 AnalysisKey = tuple[int, int, float, tuple[Limit, ...]]
 

@@ -10,10 +10,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from trayadvisor.cli.cmd_rank import ORDER_WORDS
-from trayadvisor.cli.common import fmt_ut
 from trayadvisor.model import Layout
 from trayadvisor.ranking import RankOption, RankResult, apply_option
+from trayadvisor.wording import decay_text, fmt_ut
 
 MAX_TOP_K = 50  #: most options one run lists
 CONTOUR = "contour"  #: the objective value that means "the contour at d"
@@ -122,9 +121,7 @@ def _db(v: float) -> str:
 
 
 def order_text(order: int | None) -> str:
-    if not order:
-        return "–"
-    return ORDER_WORDS.get(order, f"1/r^{order}")
+    return decay_text(order, short=True, none="–")
 
 
 def fmt_figure(v: float) -> str:

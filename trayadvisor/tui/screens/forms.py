@@ -25,10 +25,10 @@ from textual.widgets import Button, Input, Label, OptionList, Select, Static
 from textual.widgets.option_list import Option
 
 from trayadvisor.analysis import LimitFigure
-from trayadvisor.cli.common import fmt_mm, fmt_ut
 from trayadvisor.model import MATERIALS, PHASES, SYSTEMS, Circuit, Conductor, Layout, Limit, Tray
 from trayadvisor.tui.screens.dialogs import Dialog
 from trayadvisor.tui.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
+from trayadvisor.wording import fmt_mm, fmt_ut
 
 T = TypeVar("T")
 _NONE = "-"

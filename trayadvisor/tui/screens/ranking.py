@@ -24,7 +24,6 @@ from textual.message import Message
 from textual.widgets import DataTable, ProgressBar, Static
 from textual.worker import get_current_worker
 
-from trayadvisor.cli.common import fmt_ut
 from trayadvisor.export import ExportError, write_result
 from trayadvisor.model import Layout
 from trayadvisor.ranking import RankError, RankOption, RankResult, apply_option, rank_layout
@@ -46,6 +45,7 @@ from trayadvisor.tui.screens.dialogs import MessageDialog, choose_output
 from trayadvisor.tui.screens.rankform import RankForm
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 from trayadvisor.tui.widgets.panels import FieldReadout
+from trayadvisor.wording import fmt_ut
 
 OTHER_FILE = "this ranking is of another file: r ranks the open one"
 #: Shown when an option is applied: what the ranking does not look at.

@@ -15,19 +15,16 @@ from textual.widgets import OptionList, Static
 from textual.widgets.option_list import Option
 
 from trayadvisor.analysis import FieldSummary, LimitFigure
-from trayadvisor.cli.cmd_field import ORDER_WORDS
-from trayadvisor.cli.common import fmt_mm, fmt_ut
 from trayadvisor.model import Conductor, Layout, Limit
 from trayadvisor.tui.couplingtext import Line
 from trayadvisor.tui.mapscale import DECADES, MapScale, fmt_level, palette
 from trayadvisor.tui.scene import PHASE_GLYPH, circuit_tags
+from trayadvisor.wording import decay_text, fmt_mm, fmt_ut
 
 
 def order_text(order: int | None) -> str:
     """Far-field decay in words, as the CLI prints it."""
-    if not order:
-        return "no field"
-    return ORDER_WORDS.get(order, f"1/r^{order}")
+    return decay_text(order)
 
 
 class ViewBar(Static):

@@ -1,0 +1,49 @@
+"""How figures are written for people: µT and mm formats, far-field decay in words.
+
+Shared by the CLI, the terminal UI and the reports so that they print the same thing.
+"""
+
+from __future__ import annotations
+
+import math
+from importlib import resources
+from pathlib import Path
+
+#: Far-field decay orders in words.
+DECAY_WORDS: dict[int, str] = {1: "1/r (net current)", 2: "1/r² (dipole)",
+                               3: "1/r³ (quadrupole)"}
+
+
+def decay_text(order: int | None, short: bool = False, none: str = "no field") -> str:
+    """Far-field decay in words: ``1/r² (dipole)``, or ``1/r²`` with ``short``."""
+    if not order:
+        return none
+    if order in DECAY_WORDS:
+        text = DECAY_WORDS[order]
+        return text.split(" ")[0] if short else text
+    return f"1/r^{order}"
+
+
+def fmt_ut(v: float) -> str:
+    """µT with sensible significant figures."""
+    if not math.isfinite(v):
+        return "inf"
+    if v == 0:
+        return "0"
+    if abs(v) >= 100:
+        return f"{v:.0f}"
+    if abs(v) >= 1:
+        return f"{v:.3g}" if abs(v) < 10 else f"{v:.1f}"
+    return f"{v:.3g}"
+
+
+def fmt_mm(v: float) -> str:
+    """A distance in mm; infinite = beyond the 100 m the clearance search covers."""
+    if not math.isfinite(v):
+        return "beyond 100 m"
+    return f"{v:.0f} mm"
+
+
+def demo_path() -> Path:
+    """Path of the built-in demo layout shipped in the package."""
+    return Path(str(resources.files("trayadvisor") / "data" / "demo.toml"))
