@@ -10,6 +10,15 @@ CORE = [
     "trayadvisor.field",
     "trayadvisor.contour",
     "trayadvisor.analysis",
+    "trayadvisor.ranking",
+    "trayadvisor.export",
+    "trayadvisor.coupling",
+    "trayadvisor.coupling_constraints",
+    "trayadvisor.limits",
+    "trayadvisor.report",
+    "trayadvisor.batch",
+    "trayadvisor.wording",
+    "trayadvisor.cautions",
     "trayadvisor.cli.main",
 ]
 
@@ -23,6 +32,17 @@ def test_core_does_not_import_textual_or_rich():
         "build_parser()\n"
         "bad = sorted(k for k in sys.modules if k.split('.')[0] in ('textual', 'rich'))\n"
         "print(','.join(bad))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
+
+
+def test_terminal_ui_does_not_import_the_command_line_layer():
+    # Both are front ends on the same core; the UI must not borrow from the CLI.
+    code = (
+        "import sys\n"
+        "import trayadvisor.tui.app\n"
+        "print(','.join(sorted(k for k in sys.modules if k.startswith('trayadvisor.cli.'))))\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
