@@ -341,7 +341,7 @@ def dumps_layout(layout: Layout) -> str:
     """Format-1 TOML text of a layout; :func:`parse_layout` reads it back to an equal model.
 
     Keys are written in the order of docs/file-format.md; optional keys only when they
-    differ from their default. ``Layout.extra`` is not written.
+    differ from their default.
     """
     out = ["# trayadvisor layout. Units: mm, A RMS, degrees, Hz. Keys: docs/file-format.md",
            f"format = {_toml_str(FORMAT)}"]

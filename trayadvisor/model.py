@@ -8,7 +8,7 @@ Units follow layout format 1: millimetres, amperes RMS, degrees, hertz.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 
 SYSTEMS: tuple[str, ...] = ("ac3", "ac1", "dc", "signal")
 
@@ -147,7 +147,6 @@ class Layout:
     lines: tuple[ObservationLine, ...] = ()
     limits: tuple[Limit, ...] = ()
     earth_y_mm: float | None = None  # height of an earth reference plane (coupling), mm
-    extra: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
 
     # -- look-ups -------------------------------------------------------------------------
     def circuit(self, name: str) -> Circuit:
