@@ -28,15 +28,15 @@ from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.analysis import stray_uT
-from trayadvisor.coupling import induced_emf
-from trayadvisor.coupling_constraints import (
+from trayadvisor.analysis.summary import stray_uT
+from trayadvisor.coupling.victims import induced_emf
+from trayadvisor.coupling.constraints import (
     imbalance_constraint,
     induced_voltage_constraint,
     positions_m,
 )
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.sharing import sharing_plan, solve_sharing
+from trayadvisor.coupling.sharing import sharing_plan, solve_sharing
 
 REPEATS = 15
 
@@ -141,7 +141,7 @@ def main() -> int:
                      ("EMF constraint (sharing), batch", t_emfb)):
         print(f"  {label:<38}{t * 1e3:9.3f} ms  = {t / t_field:6.2f}× stray field")
 
-    from trayadvisor.ranking import rank_layout
+    from trayadvisor.ranking.rank import rank_layout
 
     for feeders, sets in ((1, 2), (2, 2)):
         small = bench_layout(feeders=feeders, sets=sets, victims=2)

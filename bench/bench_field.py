@@ -34,9 +34,9 @@ from collections.abc import Callable
 
 import numpy as np
 
-import trayadvisor.field as fieldmod
-from trayadvisor.contour import clearance, stray_field
-from trayadvisor.field import K_LINE, far_field, phasor_field
+import trayadvisor.engine.field as fieldmod
+from trayadvisor.engine.contour import clearance, stray_field
+from trayadvisor.engine.field import K_LINE, far_field, phasor_field
 
 PHASES = np.exp(1j * np.deg2rad([0.0, -120.0, 120.0]))
 
@@ -130,7 +130,7 @@ def magpylib_jobs(xy: np.ndarray, cur: np.ndarray, pts: np.ndarray, half_length:
 MEMORY_CHILD = textwrap.dedent("""
     import resource, sys, time, tracemalloc
     import numpy as np
-    from trayadvisor.field import phasor_field
+    from trayadvisor.engine.field import phasor_field
 
     def peak_rss():
         # VmHWM, reset below: ru_maxrss would keep the parent's peak across fork + exec
@@ -250,7 +250,7 @@ def main(argv: list[str] | None = None) -> int:
     t_ff, b_ff, _ = timed(lambda: far_field(xu, cu), rep)
     t_cl, b_cl, d = timed(lambda: clearance(xu, ru, cu, env, limit), rep)
     calls = 0
-    import trayadvisor.contour as contourmod
+    import trayadvisor.engine.contour as contourmod
 
     original = contourmod.stray_field
 

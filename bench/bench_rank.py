@@ -10,7 +10,7 @@ Cases (invented layouts, one ac3 feeder of parallel sets in a 600 × 100 mm tray
 
 Every figure is the median of several repeats (the machine is shared). The reference for
 speed is a plain baseline measured in the same run: arrangements scored one by one with
-:func:`trayadvisor.field.phasor_field` on the same points.
+:func:`trayadvisor.engine.field.phasor_field` on the same points.
 """
 
 from __future__ import annotations
@@ -27,12 +27,12 @@ import time
 
 import numpy as np
 
-from trayadvisor.field import phasor_field, resultant_rms
+from trayadvisor.engine.field import phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking import rank_layout
-from trayadvisor.ranking_build import build_space
-from trayadvisor.ranking_objective import make_objective
-from trayadvisor.sources import MM, sources
+from trayadvisor.ranking.rank import rank_layout
+from trayadvisor.ranking.build import build_space
+from trayadvisor.ranking.objective import make_objective
+from trayadvisor.engine.currents import MM, sources
 
 
 def feeder(n_sets: int, d: float, layers: int = 1) -> Layout:

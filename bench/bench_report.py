@@ -75,8 +75,8 @@ def median_time(fn: Callable[[], object], repeat: int) -> tuple[float, object]:
 
 
 def bench_report(repeat: int, folder: Path) -> None:
-    from trayadvisor.layoutfile import read_layout
-    from trayadvisor.report import write_report
+    from trayadvisor.layoutfile.reader import read_layout
+    from trayadvisor.output.report import write_report
 
     out = folder / "demo.html"
     cold, _ = median_time(lambda: subprocess.run(
@@ -124,7 +124,7 @@ def bench_batch(kind: str, job, files: list[str], workers: int, repeat: int,  # 
 
 def main() -> int:
     from trayadvisor.batch import default_workers
-    from trayadvisor.cli.batchcmd import field_job, rank_job
+    from trayadvisor.cli.batch_runs import field_job, rank_job
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--repeat", type=int, default=3)

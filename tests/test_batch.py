@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.batch import FileResult, expand_inputs, run_files, run_one
-from trayadvisor.cli.batchcmd import FIELD_COLUMNS, ProgressBar, csv_text, field_job
+from trayadvisor.cli.batch_runs import FIELD_COLUMNS, ProgressBar, csv_text, field_job
 from trayadvisor.cli.main import main
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -86,7 +86,7 @@ def single_json(capsys, path: Path, *extra: str) -> dict:
 @pytest.mark.parametrize("mode", ["adaptive", "workers"])
 def test_batch_of_20_equals_20_single_runs(tmp_path, capsys, monkeypatch, mode):
     if mode == "workers":  # every file in the process pool, none in this process
-        import trayadvisor.cli.batchcmd as batchcmd
+        import trayadvisor.cli.batch_runs as batchcmd
 
         monkeypatch.setattr(batchcmd, "run_files", partial(run_files, serial_first_s=0.0))
     paths = write_cases(tmp_path / "in", 20)

@@ -9,9 +9,9 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis import stray_uT
+from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.main import main
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.layoutfile.reader import read_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"

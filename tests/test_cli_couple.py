@@ -8,8 +8,8 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.cli.main import main
-from trayadvisor.coupling import coupling_summary
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.layoutfile.reader import read_layout
 
 # An invented tray: one feeder in two parallel sets and an instrument pair beside it.
 LAYOUT = """format = "trayadvisor/1"

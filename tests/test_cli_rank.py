@@ -11,9 +11,9 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis import stray_uT
+from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.main import main
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.layoutfile.reader import read_layout
 
 HEAD = """format = "trayadvisor/1"
 title = "Invented workshop feeder"

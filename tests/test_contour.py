@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 
-from trayadvisor.contour import (
+from trayadvisor.engine.contour import (
     clearance,
     contour_length,
     default_samples,

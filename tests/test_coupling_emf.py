@@ -10,15 +10,15 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from trayadvisor.coupling import (
+from trayadvisor.coupling.victims import (
     coupling_summary,
     induced_emf,
     loop_inductance_matrix,
     neumann_mutual_numeric,
 )
-from trayadvisor.coupling_constraints import imbalance_constraint, induced_voltage_constraint
+from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
 from trayadvisor.model import Circuit, Conductor, Layout
-from trayadvisor.sharing import sharing_overrides, solve_sharing
+from trayadvisor.coupling.sharing import sharing_overrides, solve_sharing
 
 MU0 = 4e-7 * np.pi  # Source: SPEC.md references (4π × 10⁻⁷, within 1e-9 of CODATA)
 
@@ -233,8 +233,8 @@ def test_emf_agrees_with_the_loop_matrix_mutual():
 
 
 def test_coupling_core_does_not_load_the_terminal_ui():
-    code = ("import sys, trayadvisor.coupling, trayadvisor.coupling_constraints, "
-            "trayadvisor.sharing, trayadvisor.inductance\n"
+    code = ("import sys, trayadvisor.coupling.victims, trayadvisor.coupling.constraints, "
+            "trayadvisor.coupling.sharing, trayadvisor.coupling.inductance\n"
             "print(','.join(sorted(k for k in sys.modules if k.split('.')[0] in "
             "('textual', 'rich'))))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,

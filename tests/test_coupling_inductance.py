@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trayadvisor.inductance import (
+from trayadvisor.coupling.inductance import (
     GMR_SOLID,
     grover_mutual_finite,
     layout_loops,

@@ -5,15 +5,15 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from trayadvisor.analysis import field_summary
+from trayadvisor.analysis.summary import field_summary
 from trayadvisor.model import Circuit, Conductor, Layout
-from trayadvisor.sharing import (
+from trayadvisor.coupling.sharing import (
     DEFAULT_TEMPERATURE_C,
     resistance_per_m,
     sharing_overrides,
     solve_sharing,
 )
-from trayadvisor.sources import sources
+from trayadvisor.engine.currents import sources
 
 MU0 = 4e-7 * np.pi  # Source: SPEC.md references (4π × 10⁻⁷, within 1e-9 of CODATA)
 # Source: IEC 60228 / IEC 60287-1-1 Table 1, annealed copper ρ20 and α20 (from memory)
@@ -210,7 +210,7 @@ def test_coincident_conductors_give_no_imbalance_figure_rather_than_zero():
     # Two parallel conductors at one place: the mutual inductance ln(1/0) has no value, so
     # the imbalance must be reported as missing (NaN), never as a reassuring 0 %.
     from trayadvisor.model import Circuit, Conductor, Layout
-    from trayadvisor.sharing import solve_sharing
+    from trayadvisor.coupling.sharing import solve_sharing
 
     cons = (Conductor("a1", "F", "L", 0.0, 0.0, 10.0), Conductor("a2", "F", "L", 0.0, 0.0, 10.0),
             Conductor("n", "F", "N", 50.0, 0.0, 10.0))

@@ -9,7 +9,7 @@ import os
 
 import pytest
 
-from trayadvisor.export import (
+from trayadvisor.output.exports import (
     ExportError,
     export_format,
     result_csv,
@@ -18,7 +18,7 @@ from trayadvisor.export import (
     write_result,
 )
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking import rank_layout
+from trayadvisor.ranking.rank import rank_layout
 
 
 @pytest.fixture(scope="module")

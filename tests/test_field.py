@@ -13,7 +13,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trayadvisor.field import (
+from trayadvisor.engine.field import (
     K_LINE,
     MU0,
     ellipse_major_rms,
@@ -379,7 +379,7 @@ def test_empty_inputs_and_shapes():
 
 def test_large_job_uses_chunks_and_threads(monkeypatch):
     # the threaded path over many chunks gives the same field as the single-thread path
-    import trayadvisor.field as fieldmod
+    import trayadvisor.engine.field as fieldmod
 
     rng = np.random.default_rng(15)
     xy, rad, cur = random_layout(rng, 30)

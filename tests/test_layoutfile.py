@@ -22,8 +22,8 @@ import pytest
 import tomli_w
 from scipy.spatial.distance import cdist
 
-from trayadvisor import layoutfile
-from trayadvisor.layoutfile import (
+from trayadvisor.layoutfile import reader as layoutfile
+from trayadvisor.layoutfile.reader import (
     LayoutError,
     atomic_write_text,
     dumps_layout,
@@ -41,7 +41,7 @@ from trayadvisor.model import (
     ObservationPoint,
     Tray,
 )
-from trayadvisor.validate import layout_problems, overlapping_pairs
+from trayadvisor.layoutfile.checks import layout_problems, overlapping_pairs
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -20,7 +20,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from trayadvisor.layoutfile import (
+from trayadvisor.layoutfile.reader import (
     LayoutError,
     LineMap,
     dumps_layout,

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.cli.main import main
-from trayadvisor.layoutfile import parse_layout
+from trayadvisor.layoutfile.reader import parse_layout
 from trayadvisor.limits import LIBRARY, UT_PER_A_PER_M, all_limits, find, library_at
 
 ROOT = Path(__file__).resolve().parents[1]

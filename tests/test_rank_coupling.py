@@ -7,12 +7,12 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis import field_summary
+from trayadvisor.analysis.summary import field_summary
 from trayadvisor.cli.main import main
-from trayadvisor.coupling import coupling_summary
-from trayadvisor.layoutfile import read_layout
-from trayadvisor.ranking import rank_layout
-from trayadvisor.sharing import sharing_overrides
+from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.ranking.rank import rank_layout
+from trayadvisor.coupling.sharing import sharing_overrides
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
@@ -79,7 +79,7 @@ def test_induced_voltage_limit_is_honoured(capsys):
 def test_no_figures_without_parallel_conductors_or_victims():
     lay = read_layout(ROOT / "layouts" / "two-sets-reversed.toml")
     single = lay.with_conductors(lay.conductors[:3])  # one set: nothing shares, no victim
-    from trayadvisor.coupling_constraints import imbalance_constraint, induced_voltage_constraint
+    from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
 
     res = rank_layout(single, top_k=2, constraints=(imbalance_constraint(float("inf")),
                                                     induced_voltage_constraint(float("inf"))))

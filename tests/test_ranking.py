@@ -8,11 +8,11 @@ import math
 import numpy as np
 import pytest
 
-from trayadvisor.analysis import field_at_points_uT, line_figure, stray_uT
-from trayadvisor.field import far_field
+from trayadvisor.analysis.summary import field_at_points_uT, line_figure, stray_uT
+from trayadvisor.engine.field import far_field
 from trayadvisor.model import Circuit, Conductor, Layout, ObservationLine, ObservationPoint, Tray
-from trayadvisor.ranking import RankError, apply_option, rank_layout
-from trayadvisor.sources import MM, sources
+from trayadvisor.ranking.rank import RankError, apply_option, rank_layout
+from trayadvisor.engine.currents import MM, sources
 
 
 def flat_sets(n_sets: int, order: str = "123", d: float = 30.0, width: float = 600.0,
@@ -283,7 +283,7 @@ def test_ranking_core_loads_no_terminal_ui():
     import subprocess
     import sys
 
-    code = ("import sys, trayadvisor.ranking, trayadvisor.export, trayadvisor.ranking_seed\n"
+    code = ("import sys, trayadvisor.ranking.rank, trayadvisor.output.exports, trayadvisor.ranking.heuristic\n"
             "print(','.join(sorted(k for k in sys.modules if k.split('.')[0] in "
             "('textual', 'rich'))))\n")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
@@ -295,7 +295,7 @@ def test_ranking_core_loads_no_terminal_ui():
 def test_sketch_of_a_crowded_single_row_does_not_fail():
     # 48 conductors in one row: more tags than columns; every tag must still be written.
     from trayadvisor.model import Circuit, Conductor, Layout, Tray
-    from trayadvisor.ranking_sketch import sketch
+    from trayadvisor.ranking.sketch import sketch
 
     cs = [Conductor(f"c{i}", "F1", ("L1", "L2", "L3")[i % 3], 20.0 + 20.0 * i, 10.0, 20.0)
           for i in range(48)]

@@ -7,18 +7,18 @@ import itertools
 import numpy as np
 import pytest
 
-from trayadvisor.analysis import envelope_m
-from trayadvisor.contour import stray_field
-from trayadvisor.field import phasor_field, resultant_rms
+from trayadvisor.analysis.summary import envelope_m
+from trayadvisor.engine.contour import stray_field
+from trayadvisor.engine.field import phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking import rank_layout
-from trayadvisor.ranking_build import build_space
-from trayadvisor.ranking_eval import Pool, Tables
-from trayadvisor.ranking_exhaustive import exhaustive
-from trayadvisor.ranking_local import LocalSearch, run_local
-from trayadvisor.ranking_objective import make_objective
-from trayadvisor.ranking_sets import paired_subproblems, pairings
-from trayadvisor.sources import MM, sources
+from trayadvisor.ranking.rank import rank_layout
+from trayadvisor.ranking.build import build_space
+from trayadvisor.ranking.tables import Pool, Tables
+from trayadvisor.ranking.exhaustive import exhaustive
+from trayadvisor.ranking.local_search import LocalSearch, run_local
+from trayadvisor.ranking.objective import make_objective
+from trayadvisor.ranking.sets import paired_subproblems, pairings
+from trayadvisor.engine.currents import MM, sources
 
 
 def two_layers(n_per_layer: int = 4, d: float = 30.0) -> Layout:

@@ -8,13 +8,13 @@ import math
 import numpy as np
 import pytest
 
-from trayadvisor.analysis import stray_uT
+from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking_build import build_space, find_mirror, phase_symmetries
-from trayadvisor.ranking_enum import blocks, multiset_sequences
-from trayadvisor.ranking_slots import RankError, slot_grid
-from trayadvisor.ranking_space import multinomial
-from trayadvisor.validate import layout_problems
+from trayadvisor.ranking.build import build_space, find_mirror, phase_symmetries
+from trayadvisor.ranking.enumeration import blocks, multiset_sequences
+from trayadvisor.ranking.slots import RankError, slot_grid
+from trayadvisor.ranking.space import multinomial
+from trayadvisor.layoutfile.checks import layout_problems
 
 
 def flat_sets(n_sets: int, d: float = 30.0, width: float = 600.0, pitch: float | None = None,

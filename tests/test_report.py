@@ -14,11 +14,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from trayadvisor.analysis import stray_uT
+from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.main import main
-from trayadvisor.layoutfile import dumps_layout, read_layout
-from trayadvisor.report import CAUTIONS, build_report, num, write_report
-from trayadvisor.report_figures import log_levels, spread_labels, to_svg
+from trayadvisor.layoutfile.reader import dumps_layout, read_layout
+from trayadvisor.output.report import CAUTIONS, build_report, num, write_report
+from trayadvisor.output.pictures import log_levels, spread_labels, to_svg
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
@@ -164,7 +164,7 @@ def test_coupling_tables_equal_couple_json(html_report, capsys):
 
 def test_rank_numbers_equal_the_ranking(html_report):
     _, root = html_report
-    from trayadvisor.ranking import rank_layout
+    from trayadvisor.ranking.rank import rank_layout
 
     core = rank_layout(read_layout(DEMO), distance_mm=500.0, top_k=6).to_json()
     rep = embedded(root)["rank"]
@@ -269,7 +269,7 @@ def test_helpers():
     assert log_levels(0.0, 1.0) == [] and len(log_levels(1e-6, 1e6)) <= 14
     ys = np.log10([y for _, y in spread_labels([904.0, 1000.0, 1000.0], 0.05)])
     assert np.all(np.diff(ys) >= 0.05 - 1e-12) and ys[0] == np.log10(904.0)
-    from trayadvisor.report_figures import new_figure
+    from trayadvisor.output.pictures import new_figure
 
     fig = new_figure(2, 1)
     fig.add_subplot().plot([1, 2], [1, 2], marker="o")
@@ -280,7 +280,7 @@ def test_helpers():
 
 
 def test_report_module_keeps_heavy_and_ui_imports_out():
-    code = ("import sys, trayadvisor.report, trayadvisor.limits, trayadvisor.batch; "
+    code = ("import sys, trayadvisor.output.report, trayadvisor.limits, trayadvisor.batch; "
             "bad = [m for m in ('matplotlib', 'textual', 'rich') if m in sys.modules]; "
             "print(bad); sys.exit(1 if bad else 0)")
     res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)

@@ -7,9 +7,9 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from trayadvisor.field import far_field, phasor_field, resultant_rms
+from trayadvisor.engine.field import far_field, phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout
-from trayadvisor.sources import MM, conductor_currents, sources
+from trayadvisor.engine.currents import MM, conductor_currents, sources
 
 
 def cond(name, circuit, phase, x, y=20.0, d=30.0, **kw):

@@ -19,7 +19,7 @@ from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from trayadvisor.layoutfile import LayoutError, read_layout
+from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.model import Layout
 
 Job = Callable[[Layout], tuple[dict, dict]]

@@ -6,15 +6,15 @@ import math
 
 from tuihelpers import SIZE, canvas_text, settle, text_of
 
-from trayadvisor.analysis import field_summary, stray_uT
+from trayadvisor.analysis.summary import field_summary, stray_uT
 from trayadvisor.cli.common import fmt_ut
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.tui import make_app
 from trayadvisor.tui.screens.field import FieldScreen
 from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm
 from trayadvisor.tui.screens.help import CAUTIONS, HelpScreen
 from trayadvisor.tui.screens.section import SectionScreen
-from trayadvisor.tui.settings import TYPED_LIMIT
+from trayadvisor.tui.logic.settings import TYPED_LIMIT
 from trayadvisor.tui.widgets.canvas import SectionCanvas
 
 

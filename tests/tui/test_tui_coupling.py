@@ -1,7 +1,7 @@
 """The Coupling view and the report key, driven through the real app at 80x24.
 
-Reference values: :func:`trayadvisor.coupling.coupling_summary` (what ``trayadvisor couple
---json`` prints) and :func:`trayadvisor.report.write_report` (``trayadvisor report``)."""
+Reference values: :func:`trayadvisor.coupling.victims.coupling_summary` (what ``trayadvisor couple
+--json`` prints) and :func:`trayadvisor.output.report.write_report` (``trayadvisor report``)."""
 
 from __future__ import annotations
 
@@ -11,9 +11,9 @@ from pathlib import Path
 from textual.widgets import Input
 from tuihelpers import SIZE, settle, text_of
 
-from trayadvisor.coupling import coupling_summary
+from trayadvisor.coupling.victims import coupling_summary
 from trayadvisor.tui import make_app
-from trayadvisor.tui.couplingtext import WORST_IMBALANCE, WORST_SHARE, f1, g3
+from trayadvisor.tui.logic.couplingtext import WORST_IMBALANCE, WORST_SHARE, f1, g3
 from trayadvisor.tui.screens.coupling import CouplingScreen
 from trayadvisor.tui.screens.dialogs import PathDialog
 

@@ -11,10 +11,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trayadvisor.layoutfile import LayoutError, layout_problems, read_layout
+from trayadvisor.layoutfile.reader import LayoutError, layout_problems, read_layout
 from trayadvisor.model import Circuit, Conductor, Tray
-from trayadvisor.tui import edits
-from trayadvisor.tui.document import Document
+from trayadvisor.tui.logic import edits
+from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.screens.forms import parse_harmonics
 
 
@@ -173,7 +173,7 @@ def test_plain_modules_do_not_import_textual() -> None:
             "keymap", "ranktable", "couplingtext"]
     code = ("import importlib, sys\n"
             f"for m in {mods!r}:\n"
-            "    importlib.import_module('trayadvisor.tui.' + m)\n"
+            "    importlib.import_module('trayadvisor.tui.logic.' + m)\n"
             "print(','.join(sorted(k for k in sys.modules if k.split('.')[0] == 'textual')))\n")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True)

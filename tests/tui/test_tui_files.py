@@ -9,9 +9,9 @@ import pytest
 from tuihelpers import SIZE, settle, text_of, type_into
 
 from trayadvisor.cli.main import main
-from trayadvisor.layoutfile import LayoutError, read_layout
+from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.tui import make_app
-from trayadvisor.tui.document import Document
+from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.screens.dialogs import (
     ConfirmDialog,
     MessageDialog,

@@ -15,11 +15,11 @@ from textual import events
 from textual.widgets import DataTable, Input
 from tuihelpers import SIZE, settle, text_of
 
-from trayadvisor.analysis import stray_uT
+from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.common import fmt_ut
-from trayadvisor.layoutfile import write_layout
+from trayadvisor.layoutfile.reader import write_layout
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking import apply_option, rank_layout
+from trayadvisor.ranking.rank import apply_option, rank_layout
 from trayadvisor.tui import make_app
 from trayadvisor.tui.screens.dialogs import ConfirmDialog, MessageDialog, PathDialog
 from trayadvisor.tui.screens.help import HelpScreen
@@ -72,7 +72,7 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         assert app.document.undo_label == "apply ranked option 1"
         shown = app.summary.max_resultant_uT
         assert shown == pytest.approx(opt.max_resultant_uT, rel=1e-6)
-        # Reference: trayadvisor.analysis.stray_uT, what `trayadvisor field` reports.
+        # Reference: trayadvisor.analysis.summary.stray_uT, what `trayadvisor field` reports.
         assert shown == pytest.approx(stray_uT(app.document.layout, 400.0), rel=1e-6)
         assert f"{fmt_ut(opt.max_resultant_uT)} µT" in text_of(app, "#readout")
 

@@ -6,11 +6,11 @@ import math
 
 import numpy as np
 
-from trayadvisor.analysis import field_grid_uT
+from trayadvisor.analysis.summary import field_grid_uT
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.tui.mapscale import SHADES, STEPS, MapScale, iso_digits, palette
-from trayadvisor.tui.scene import FieldMap, build_scene, circuit_tags
-from trayadvisor.tui.viewport import Viewport
+from trayadvisor.tui.logic.mapscale import SHADES, STEPS, MapScale, iso_digits, palette
+from trayadvisor.tui.logic.scene import FieldMap, build_scene, circuit_tags
+from trayadvisor.tui.logic.viewport import Viewport
 
 TRAY = Tray("P1", 0.0, 0.0, 400.0, 100.0)
 LAYOUT = Layout(

@@ -7,12 +7,12 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis import field_summary
+from trayadvisor.analysis.summary import field_summary
 from trayadvisor.cli.common import demo_path
-from trayadvisor.layoutfile import read_layout
-from trayadvisor.tui.compute import Failed, LimitDone, SummaryDone, run_analysis
-from trayadvisor.tui.keymap import KeymapError, load_keymap
-from trayadvisor.tui.settings import (
+from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.tui.logic.compute import Failed, LimitDone, SummaryDone, run_analysis
+from trayadvisor.tui.logic.keymap import KeymapError, load_keymap
+from trayadvisor.tui.logic.settings import (
     TYPED_LIMIT,
     ViewSettings,
     available_limits,

@@ -14,20 +14,20 @@ import numpy as np
 import pytest
 
 from trayadvisor.cli.common import demo_path
-from trayadvisor.coupling import coupling_summary
-from trayadvisor.export import result_csv
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.output.exports import result_csv
+from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.model import Conductor
-from trayadvisor.ranking import apply_option, rank_layout
-from trayadvisor.tui.couplingtext import (
+from trayadvisor.ranking.rank import apply_option, rank_layout
+from trayadvisor.tui.logic.couplingtext import (
     WORST_EMF,
     WORST_IMBALANCE,
     WORST_SHARE,
     coupling_lines,
     victim_lines,
 )
-from trayadvisor.tui.edits import move_conductor
-from trayadvisor.tui.ranktable import (
+from trayadvisor.tui.logic.edits import move_conductor
+from trayadvisor.tui.logic.ranktable import (
     RankParams,
     columns,
     fits,

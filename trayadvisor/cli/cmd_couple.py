@@ -6,7 +6,7 @@ import argparse
 import math
 
 from trayadvisor.cli.common import CAUTION_LINE, UserError, load, positive, print_json
-from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
+from trayadvisor.coupling.victims import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
 from trayadvisor.model import Layout
 
 #: Conductor temperatures accepted by ``--temperature-c``, °C.
@@ -30,7 +30,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def options(args: argparse.Namespace) -> dict:
-    """Validated keyword arguments for :func:`trayadvisor.coupling.coupling_summary`."""
+    """Validated keyword arguments for :func:`trayadvisor.coupling.victims.coupling_summary`."""
     if args.length_m is not None:
         positive("--length-m", args.length_m)
     t = args.temperature_c

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 
 from trayadvisor.cli.common import UserError, positive
-from trayadvisor.layoutfile import LayoutError
+from trayadvisor.layoutfile.reader import LayoutError
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from trayadvisor.analysis import DEFAULT_DISTANCE_MM, FieldSummary, field_summary
+from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM, FieldSummary, field_summary
 from trayadvisor.cli.common import (
     CAUTION_LINE,
     fmt_mm,
@@ -16,7 +16,7 @@ from trayadvisor.cli.common import (
     print_json,
 )
 from trayadvisor.model import Layout
-from trayadvisor.wording import decay_text
+from trayadvisor.output.wording import decay_text
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -56,7 +56,7 @@ def compute(layout: Layout, distance_mm: float, at: list, limits: list,
             sharing: bool = False) -> FieldSummary:
     overrides = None
     if sharing:
-        from trayadvisor.coupling import sharing_overrides
+        from trayadvisor.coupling.victims import sharing_overrides
 
         overrides = sharing_overrides(layout)
     return field_summary(layout, distance_mm, at=at, limits=limits, overrides=overrides)
@@ -96,7 +96,7 @@ def run(args: argparse.Namespace) -> int:
 
     files = expand_inputs(args.files)
     if len(files) != 1 or args.out:
-        from trayadvisor.cli.batchcmd import run_batch
+        from trayadvisor.cli.batch_runs import run_batch
 
         return run_batch("field", files, opts, args)
     layout = load(files[0])

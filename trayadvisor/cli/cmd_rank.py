@@ -11,13 +11,13 @@ import time
 from collections.abc import Callable
 from pathlib import Path
 
-from trayadvisor.analysis import DEFAULT_DISTANCE_MM
+from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM
 from trayadvisor.cli.common import CAUTION_LINE, UserError, fmt_ut, load, print_json
 from trayadvisor.model import Layout
-from trayadvisor.ranking import DEFAULT_MAX_EXHAUSTIVE, RankError, RankResult, rank_layout
-from trayadvisor.ranking_sketch import sketch
-from trayadvisor.ranking_slots import SLOT_RULES
-from trayadvisor.wording import decay_text
+from trayadvisor.ranking.rank import DEFAULT_MAX_EXHAUSTIVE, RankError, RankResult, rank_layout
+from trayadvisor.ranking.sketch import sketch
+from trayadvisor.ranking.slots import SLOT_RULES
+from trayadvisor.output.wording import decay_text
 
 PREFIX = "trayadvisor rank"
 
@@ -129,7 +129,7 @@ def compute(layout: Layout, *, distance_mm: float, top_k: int, objective: str | 
     Every option lists its current imbalance and victim EMF (when the layout has parallel
     conductors or victim loops); finite limits also exclude options.
     """
-    from trayadvisor.coupling_constraints import imbalance_constraint, induced_voltage_constraint
+    from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
 
     constraints = []
     if not math.isinf(max_imbalance_pct):
@@ -229,7 +229,7 @@ def run(args: argparse.Namespace) -> int:
     if len(files) != 1 or Path(args.files[0]).is_dir():
         if apply is not None:
             raise _fail(f"--apply {apply}: works on one FILE, not a batch")
-        from trayadvisor.cli.batchcmd import run_batch
+        from trayadvisor.cli.batch_runs import run_batch
 
         return run_batch("rank", files, opts, args)
     _check_out(args.out, apply)
@@ -265,8 +265,8 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
             if apply > len(result.options):
                 raise _fail(f"--apply {apply}: only {len(result.options)} option(s) were "
                             f"found; choose 1 to {len(result.options)}")
-            from trayadvisor.layoutfile import LayoutError, validate_layout, write_layout
-            from trayadvisor.ranking import apply_option
+            from trayadvisor.layoutfile.reader import LayoutError, validate_layout, write_layout
+            from trayadvisor.ranking.rank import apply_option
 
             opt = result.options[apply - 1]
             new = apply_option(layout, opt)
@@ -280,7 +280,7 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
                   f"({fmt_ut(opt.max_resultant_uT)} µT, {opt.reduction_pct:.1f} % lower)",
                   file=stream)
             return
-        from trayadvisor.export import write_result
+        from trayadvisor.output.exports import write_result
 
         fmt = write_result(result, out, layout, layout.title)
         print(f"wrote {out}: {len(result.options)} option(s) as {fmt}", file=stream)

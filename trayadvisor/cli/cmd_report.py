@@ -6,7 +6,7 @@ import argparse
 import os
 from pathlib import Path
 
-from trayadvisor.analysis import DEFAULT_DISTANCE_MM
+from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM
 from trayadvisor.cli.common import CAUTION_LINE, UserError, load, non_negative
 
 
@@ -24,7 +24,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trayadvisor.report import FORMATS, write_report
+    from trayadvisor.output.report import FORMATS, write_report
 
     non_negative("--distance-mm", args.distance_mm)
     if args.top < 1:

@@ -7,11 +7,11 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from trayadvisor.cautions import CAUTION_LINE  # noqa: F401  (re-exported for commands)
-from trayadvisor.jsonsafe import dumps
-from trayadvisor.layoutfile import LayoutError, read_layout
+from trayadvisor.output.cautions import CAUTION_LINE  # noqa: F401  (re-exported for commands)
+from trayadvisor.output.jsontext import dumps
+from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.model import Layout
-from trayadvisor.wording import demo_path, fmt_mm, fmt_ut  # noqa: F401  (re-exported)
+from trayadvisor.output.wording import demo_path, fmt_mm, fmt_ut  # noqa: F401  (re-exported)
 
 
 class UserError(Exception):

@@ -1,7 +1,7 @@
 """The terminal UI application: the open document, the views, files and the field worker.
 
 :func:`make_app` builds the app for the CLI and for tests. The app owns the
-:class:`~trayadvisor.tui.document.Document` (every edit goes through :meth:`TrayApp.
+:class:`~trayadvisor.tui.logic.document.Document` (every edit goes through :meth:`TrayApp.
 apply_edit`, so it is undoable), the view settings and the latest field figures, which a
 worker thread computes with the same functions the CLI calls. Views are app modes listed in
 :data:`trayadvisor.tui.views.VIEWS`; the app tells the view on show what changed. Reports
@@ -19,20 +19,20 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.worker import get_current_worker
 
-from trayadvisor.analysis import FieldSummary, LimitFigure
-from trayadvisor.cautions import CAUTION_LINE
-from trayadvisor.layoutfile import read_layout
+from trayadvisor.analysis.summary import FieldSummary, LimitFigure
+from trayadvisor.output.cautions import CAUTION_LINE
+from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.model import Layout, Limit
-from trayadvisor.tui.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
-from trayadvisor.tui.document import Document
+from trayadvisor.tui.logic.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
+from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.files import FileCommands
-from trayadvisor.tui.keymap import KeymapError, default_keymap_path, load_keymap
+from trayadvisor.tui.logic.keymap import KeymapError, default_keymap_path, load_keymap
 from trayadvisor.tui.reports import ReportCommands
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.help import HelpScreen
-from trayadvisor.tui.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
+from trayadvisor.tui.logic.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
 from trayadvisor.tui.views import VIEWS, ViewSpec
-from trayadvisor.wording import demo_path
+from trayadvisor.output.wording import demo_path
 
 AnalysisKey = tuple[int, int, float, tuple[Limit, ...]]
 

@@ -1,7 +1,7 @@
 """The report command of the terminal UI: write the open layout's report from a dialog.
 
 A mixin of :class:`trayadvisor.tui.app.TrayApp`. The report is
-:func:`trayadvisor.report.write_report`, the call ``trayadvisor report`` makes, with the
+:func:`trayadvisor.output.report.write_report`, the call ``trayadvisor report`` makes, with the
 app's distance d; it takes a second or two (it ranks the layout too), so it runs in a worker
 thread and a notification names the files written, or the error.
 """
@@ -65,7 +65,7 @@ class ReportCommands(_Base):
     @work(thread=True, exclusive=True, group="report", exit_on_error=False)
     def _report_worker(self, layout: Layout, target: Path, source_file: Path | None,
                        source_name: str, distance_mm: float) -> None:
-        from trayadvisor.report import ReportError, write_report
+        from trayadvisor.output.report import ReportError, write_report
 
         text = None
         if source_file is not None:  # the file as saved is the model on show

@@ -22,7 +22,7 @@ from textual.screen import Screen
 from textual.widgets import Footer
 
 from trayadvisor.tui.screens.forms import SettingsForm
-from trayadvisor.tui.settings import ViewSettings
+from trayadvisor.tui.logic.settings import ViewSettings
 from trayadvisor.tui.widgets.panels import StatusLine, ViewBar
 
 if TYPE_CHECKING:

@@ -1,6 +1,6 @@
 """The Coupling view: victim EMF and current sharing beside the cross-section, while editing.
 
-The figures are :func:`trayadvisor.coupling.coupling_summary` of the model on show (the
+The figures are :func:`trayadvisor.coupling.victims.coupling_summary` of the model on show (the
 call ``trayadvisor couple`` makes), recomputed in a worker thread after every edit; a
 newer result replaces a queued older one, and a result for an older model is dropped. The
 canvas and the editing keys are the Section view's, so conductors can be moved while the
@@ -16,9 +16,9 @@ from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.worker import get_current_worker
 
-from trayadvisor.coupling import CouplingSummary, coupling_summary
+from trayadvisor.coupling.victims import CouplingSummary, coupling_summary
 from trayadvisor.model import Layout
-from trayadvisor.tui.couplingtext import Line, coupling_lines
+from trayadvisor.tui.logic.couplingtext import Line, coupling_lines
 from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.widgets.canvas import SectionCanvas
 from trayadvisor.tui.widgets.panels import CouplingPanel

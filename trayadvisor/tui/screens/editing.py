@@ -9,8 +9,8 @@ from textual import on
 from textual.binding import Binding
 
 from trayadvisor.model import Circuit, Conductor, Tray
-from trayadvisor.tui import edits
-from trayadvisor.tui.scene import drawing_bounds
+from trayadvisor.tui.logic import edits
+from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm, TrayForm
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas

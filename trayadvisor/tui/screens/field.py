@@ -15,11 +15,11 @@ from textual.message import Message
 from textual.worker import get_current_worker
 
 from trayadvisor.model import Layout
-from trayadvisor.tui.compute import map_grid
-from trayadvisor.tui.mapscale import MapScale
-from trayadvisor.tui.scene import FieldMap
+from trayadvisor.tui.logic.compute import map_grid
+from trayadvisor.tui.logic.mapscale import MapScale
+from trayadvisor.tui.logic.scene import FieldMap
 from trayadvisor.tui.screens.editing import EditingScreen
-from trayadvisor.tui.viewport import Viewport
+from trayadvisor.tui.logic.viewport import Viewport
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend
 

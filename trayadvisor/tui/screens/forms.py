@@ -24,11 +24,11 @@ from textual.widget import Widget
 from textual.widgets import Button, Input, Label, OptionList, Select, Static
 from textual.widgets.option_list import Option
 
-from trayadvisor.analysis import LimitFigure
+from trayadvisor.analysis.summary import LimitFigure
 from trayadvisor.model import MATERIALS, PHASES, SYSTEMS, Circuit, Conductor, Layout, Limit, Tray
 from trayadvisor.tui.screens.dialogs import Dialog
-from trayadvisor.tui.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
-from trayadvisor.wording import fmt_mm, fmt_ut
+from trayadvisor.tui.logic.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
+from trayadvisor.output.wording import fmt_mm, fmt_ut
 
 T = TypeVar("T")
 _NONE = "-"

@@ -8,7 +8,7 @@ from textual.widget import Widget
 from textual.widgets import Input, Select, Static
 
 from trayadvisor.model import Layout
-from trayadvisor.tui.ranktable import CONTOUR, MAX_TOP_K, RankParams, objective_choices
+from trayadvisor.tui.logic.ranktable import CONTOUR, MAX_TOP_K, RankParams, objective_choices
 from trayadvisor.tui.screens.forms import FormError, FormScreen
 
 

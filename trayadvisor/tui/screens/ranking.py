@@ -1,12 +1,12 @@
 """The Ranking view: rank arrangements of the open layout, preview one, apply it, save them.
 
-The search is :func:`trayadvisor.ranking.rank_layout` (the call ``trayadvisor rank``
+The search is :func:`trayadvisor.ranking.rank.rank_layout` (the call ``trayadvisor rank``
 makes) in a worker thread: its progress callback posts coalesced messages to the progress
 bar, and the stop key sets the event its cancel callback polls, so a stopped run keeps the
 best arrangements found so far. The options are listed with the engine's figures; the
 highlighted one is drawn in the preview, and applying it is one undoable edit
-(:func:`trayadvisor.ranking.apply_option` through ``TrayApp.apply_edit``). Saving writes
-the options with :func:`trayadvisor.export.write_result` (CSV, JSON or Markdown by
+(:func:`trayadvisor.ranking.rank.apply_option` through ``TrayApp.apply_edit``). Saving writes
+the options with :func:`trayadvisor.output.exports.write_result` (CSV, JSON or Markdown by
 extension, atomically).
 """
 
@@ -24,10 +24,10 @@ from textual.message import Message
 from textual.widgets import DataTable, ProgressBar, Static
 from textual.worker import get_current_worker
 
-from trayadvisor.export import ExportError, write_result
+from trayadvisor.output.exports import ExportError, write_result
 from trayadvisor.model import Layout
-from trayadvisor.ranking import RankError, RankOption, RankResult, apply_option, rank_layout
-from trayadvisor.tui.ranktable import (
+from trayadvisor.ranking.rank import RankError, RankOption, RankResult, apply_option, rank_layout
+from trayadvisor.tui.logic.ranktable import (
     RankParams,
     columns,
     fits,
@@ -39,13 +39,13 @@ from trayadvisor.tui.ranktable import (
     staleness,
     usable_params,
 )
-from trayadvisor.tui.scene import drawing_bounds
+from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.dialogs import MessageDialog, choose_output
 from trayadvisor.tui.screens.rankform import RankForm
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 from trayadvisor.tui.widgets.panels import FieldReadout
-from trayadvisor.wording import fmt_ut
+from trayadvisor.output.wording import fmt_ut
 
 OTHER_FILE = "this ranking is of another file: r ranks the open one"
 #: Shown when an option is applied: what the ranking does not look at.

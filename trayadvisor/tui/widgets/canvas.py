@@ -1,8 +1,8 @@
 """The cross-section canvas: trays to scale, conductor glyphs, the contour at d, the map.
 
-A thin widget: it draws what :func:`trayadvisor.tui.scene.build_scene` lays out and posts
+A thin widget: it draws what :func:`trayadvisor.tui.logic.scene.build_scene` lays out and posts
 messages for the keys it owns (moving the selected conductor). It computes no field; the
-screen hands it a finished :class:`~trayadvisor.tui.scene.FieldMap`.
+screen hands it a finished :class:`~trayadvisor.tui.logic.scene.FieldMap`.
 """
 
 from __future__ import annotations
@@ -19,9 +19,9 @@ from textual.strip import Strip
 from textual.widget import Widget
 
 from trayadvisor.model import Layout
-from trayadvisor.tui.mapscale import palette
-from trayadvisor.tui.scene import FieldMap, Key, build_scene
-from trayadvisor.tui.viewport import Bounds, Viewport
+from trayadvisor.tui.logic.mapscale import palette
+from trayadvisor.tui.logic.scene import FieldMap, Key, build_scene
+from trayadvisor.tui.logic.viewport import Bounds, Viewport
 
 _PALETTE = [f"rgb({r},{g},{b})" for r, g, b in palette()]
 #: Circuit colours (foreground on a dark cell); the glyphs carry the meaning, colour helps.

@@ -2,7 +2,7 @@
 list, the selection details, the field readouts, the map legend and the coupling figures.
 
 Each one shows what its screen hands it and posts a message for what the user picks;
-numbers come from :mod:`trayadvisor.analysis` results computed elsewhere.
+numbers come from :mod:`trayadvisor.analysis.summary` results computed elsewhere.
 """
 
 from __future__ import annotations
@@ -14,12 +14,12 @@ from textual.message import Message
 from textual.widgets import OptionList, Static
 from textual.widgets.option_list import Option
 
-from trayadvisor.analysis import FieldSummary, LimitFigure
+from trayadvisor.analysis.summary import FieldSummary, LimitFigure
 from trayadvisor.model import Conductor, Layout, Limit
-from trayadvisor.tui.couplingtext import Line
-from trayadvisor.tui.mapscale import DECADES, MapScale, fmt_level, palette
-from trayadvisor.tui.scene import PHASE_GLYPH, circuit_tags
-from trayadvisor.wording import decay_text, fmt_mm, fmt_ut
+from trayadvisor.tui.logic.couplingtext import Line
+from trayadvisor.tui.logic.mapscale import DECADES, MapScale, fmt_level, palette
+from trayadvisor.tui.logic.scene import PHASE_GLYPH, circuit_tags
+from trayadvisor.output.wording import decay_text, fmt_mm, fmt_ut
 
 
 def order_text(order: int | None) -> str:
@@ -272,7 +272,7 @@ _STYLES = {"head": "bold", "worst": "bold yellow", "warning": "bold red", "note"
 
 class CouplingPanel(Static):
     """Victim EMF and current sharing: the lines it is handed (see
-    :mod:`trayadvisor.tui.couplingtext`), styled by kind."""
+    :mod:`trayadvisor.tui.logic.couplingtext`), styled by kind."""
 
     def show(self, lines: list[Line], pending: bool = False) -> None:
         t = Text()

@@ -1,0 +1,1 @@
+"""(front door written in the next commit)."""

@@ -1,0 +1,388 @@
+"""The advisor: rank arrangements and go/return pairings of movable conductors by stray field.
+
+``rank_layout`` searches the distinct arrangements of the movable conductors over candidate
+positions (see :mod:`trayadvisor.ranking.space`), exactly when their number allows
+(:mod:`trayadvisor.ranking.exhaustive`) and by iterated local search beyond
+(:mod:`trayadvisor.ranking.local_search`). The search scores arrangements on a fixed set of objective
+points (a subset of the samples the contour uses); the best candidates are then re-scored with
+the very function ``field`` uses, so an option's figure equals
+:func:`trayadvisor.analysis.summary.stray_uT` on its positions. Because the re-scored figure is never
+below the sampled one, re-scoring in sampled order can stop as soon as the next sampled value
+exceeds the K-th re-scored one: the exhaustive top K is then exact (``certified``).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from typing import Any, Protocol
+
+import numpy as np
+
+from trayadvisor.analysis.summary import UT
+from trayadvisor.engine.field import far_field
+from trayadvisor.model import Layout
+from trayadvisor.ranking.build import build_space, find_mirror, phase_symmetries, symmetry_group
+from trayadvisor.ranking.tables import Pool, Tables
+from trayadvisor.ranking.exhaustive import exhaustive
+from trayadvisor.ranking.local_search import run_local
+from trayadvisor.ranking.objective import Objective, make_objective
+from trayadvisor.ranking.heuristic import run_heuristic
+from trayadvisor.ranking.sketch import sketch
+from trayadvisor.ranking.slots import RankError
+from trayadvisor.coupling.sharing import sharing_overrides
+from trayadvisor.engine.currents import MM, sources
+
+__all__ = ["Constraint", "RankError", "RankOption", "RankResult", "apply_option",
+           "rank_layout"]
+
+DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by default
+DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
+_SEED_DESCENTS = 16  # local-search descents that seed the exhaustive pool's threshold
+_SMALL = 512  # below this many arrangements no seeding is needed
+SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing (``sharing=True``)
+
+
+class Constraint(Protocol):
+    """A check on one arrangement, given as the layout with that arrangement's positions.
+
+    It returns an object with ``passes`` (bool), ``key`` (str) and ``value`` (float) —
+    e.g. :class:`trayadvisor.coupling.constraints.ConstraintFigure` — or a plain bool.
+    Options that fail are skipped; ``key: value`` goes into the option's ``figures``.
+    """
+
+    def __call__(self, layout: Layout) -> Any: ...
+
+
+@dataclass(frozen=True)
+class RankOption:
+    """One ranked arrangement with its figures (µT, %, dB) and every conductor's centre."""
+
+    rank: int
+    max_resultant_uT: float
+    reduction_pct: float
+    reduction_db: float
+    far_field_order: int | None
+    positions: dict[str, tuple[float, float]]  # every conductor, mm
+    sketch: str
+    figures: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class RankResult:
+    """A ranking run: which method, how much was evaluated, and the options found."""
+
+    distance_mm: float
+    method: str  # "exhaustive" or "heuristic"
+    evaluated: int
+    distinct: int | None
+    baseline_uT: float
+    options: tuple[RankOption, ...]
+    elapsed_s: float
+    stopped_early: bool
+    objective: str
+    certified: bool = False  # exhaustive and complete: the options are the exact top K
+    screened: int = 0  # heuristic: further arrangements bounded on a few points only
+    notes: tuple[str, ...] = ()
+    baseline_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
+
+    def to_json(self) -> dict:
+        """The SPEC's ``rank --json`` object, plus added keys."""
+        return {
+            "distance_mm": self.distance_mm,
+            "method": self.method,
+            "evaluated": self.evaluated,
+            "distinct": self.distinct,
+            "objective": self.objective,
+            "baseline_uT": self.baseline_uT,
+            "certified": self.certified,
+            "screened": self.screened,
+            "stopped_early": self.stopped_early,
+            "elapsed_s": self.elapsed_s,
+            "notes": list(self.notes),
+            "options": [
+                {"rank": o.rank, "max_resultant_uT": o.max_resultant_uT,
+                 "reduction_pct": o.reduction_pct, "reduction_db": o.reduction_db,
+                 "far_field_order": o.far_field_order, "figures": dict(o.figures),
+                 "sketch": o.sketch,
+                 "conductors": [{"name": n, "x_mm": x, "y_mm": y}
+                                for n, (x, y) in o.positions.items()]}
+                for o in self.options
+            ],
+        }
+
+
+def apply_option(layout: Layout, option: RankOption) -> Layout:
+    """A copy of ``layout`` with every conductor at the option's position."""
+    return layout.with_positions(option.positions)
+
+
+def _coupling_reporters(constraints: Sequence[Constraint], sharing: bool
+                        ) -> tuple[Constraint, ...]:
+    """Figure-only coupling checks (limit inf) for the keys no given constraint covers."""
+    from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
+
+    have = {getattr(c, "key", None) for c in constraints}
+    out: list[Constraint] = []
+    if "imbalance_pct" not in have:
+        out.append(imbalance_constraint(math.inf))
+    if "induced_mV_per_m" not in have:
+        out.append(induced_voltage_constraint(math.inf, sharing=sharing))
+    return tuple(out)
+
+
+def _check(constraints: Sequence[Constraint], lay: Layout) -> tuple[bool, dict[str, float]]:
+    ok, figs = True, {}
+    for con in constraints:
+        got = con(lay)
+        if isinstance(got, bool | np.bool_):
+            ok = ok and bool(got)
+            continue
+        ok = ok and bool(got.passes)
+        if getattr(got, "worst", None) != "":  # "" = nothing to report (no group, no victim)
+            figs[str(got.key)] = float(got.value)
+    return ok, figs
+
+
+def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
+                objective: str | None = None, slots: str | None = None,
+                bundles: bool = False, max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
+                budget_s: float | None = None, seed: int = 0,
+                constraints: Sequence[Constraint] = (),
+                progress: Callable[[float, str], None] | None = None,
+                cancel: Callable[[], bool] | None = None,
+                max_evaluations: int | None = None,
+                patience: int | None = None, sharing: bool = False,
+                coupling_figures: bool = True) -> RankResult:
+    """Rank the distinct arrangements of the movable conductors by stray field.
+
+    Parameters
+    ----------
+    layout : Layout
+    distance_mm : float
+        Distance d outside the tray envelope for the contour objective (mm).
+    top_k : int
+        Number of options (>= 1).
+    objective : str or None
+        None or "contour": maximum resultant on the contour at d; ``"line:NAME"``: maximum
+        over an observation line's samples; ``"point:NAME"``: resultant at a named point.
+    slots : {"touching", "spaced", "trefoil"} or None
+        Generated slot grid instead of the conductors' current places.
+    bundles : bool
+        Keep each parallel set in one group of positions.
+    max_exhaustive : int
+        Enumerate exactly up to this many distinct arrangements, else local search.
+    budget_s : float, optional
+        Time budget (s); the heuristic defaults to :data:`DEFAULT_HEURISTIC_BUDGET_S`.
+    seed : int
+        Seed of the local search (results repeat for one seed unless the budget cuts in).
+    constraints : sequence of Constraint
+        Checks an option must pass, and figures every option lists. A constraint with a
+        finite ``limit`` makes conductors of different circuits distinguishable; one with
+        ``limit = inf`` only reports its figure.
+    progress : callable(fraction, message), optional
+        Called now and then (at most ~5 times a second).
+    cancel : callable() -> bool, optional
+        Polled between blocks; when true the best found so far is returned.
+    max_evaluations, patience : int, optional
+        Heuristic stops: scored arrangements; descents without a new best.
+    sharing : bool
+        Score the options with the solved current sharing between parallel conductors
+        (:func:`trayadvisor.coupling.sharing.sharing_overrides`) instead of equal shares. The search
+        itself runs on equal shares; the best :data:`SHARING_RESCORE` candidates are then
+        re-scored with sharing and re-ranked (such a ranking is not certified).
+    coupling_figures : bool
+        List every option's current imbalance and victim EMF (``imbalance_pct``,
+        ``induced_mV_per_m`` in ``figures``) when the layout has parallel conductors or
+        victim loops; a constraint in ``constraints`` with the same key takes its place.
+
+    Returns
+    -------
+    RankResult
+    """
+    t0 = time.perf_counter()
+    if isinstance(top_k, bool) or not isinstance(top_k, int | np.integer) or top_k < 1:
+        raise RankError(f"--top {top_k}: must be at least 1")
+    if not np.isfinite(distance_mm) or distance_mm < 0:
+        raise RankError(f"--distance-mm {distance_mm}: must be zero or a positive number")
+    if budget_s is not None and (not np.isfinite(budget_s) or budget_s <= 0):
+        raise RankError(f"--budget-s {budget_s}: must be a positive number of seconds")
+    src = sources(layout)
+    obj = make_objective(layout, float(distance_mm), objective, src)
+    identity = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
+    if coupling_figures:
+        constraints = (*constraints, *_coupling_reporters(constraints, sharing))
+    space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
+    notes = list(space.notes)
+    _symmetries(space, layout, obj, identity, notes)
+    distinct = space.distinct()
+    base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
+    baseline = obj.score_uT(sources(layout, sharing_overrides(layout)) if sharing else src,
+                            layout, base_pos)
+    method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
+    deadline = None
+    if budget_s is not None:
+        deadline = t0 + budget_s
+    elif method == "heuristic":
+        deadline = t0 + DEFAULT_HEURISTIC_BUDGET_S
+    reporter = _Reporter(progress, t0)
+    capacity = max(64, 8 * top_k)
+    evaluated, screened, stop, options, certified = 0, 0, "", [], False
+    for _ in range(3):
+        pool = Pool(capacity, space.n_positions, space.canonical)
+        evaluated, screened, stop = _search(layout, space, src, obj, pool, method, distinct,
+                                            seed=seed,
+                                            identity=identity, deadline=deadline,
+                                            cancel=cancel, reporter=reporter,
+                                            patience=patience,
+                                            max_evaluations=max_evaluations)
+        options, certified = _rescore(layout, space, obj, src, pool, top_k, constraints,
+                                      sharing)
+        if method != "exhaustive" or stop or certified or sharing:
+            break
+        capacity *= 8
+        notes.append("pool enlarged to certify the top options after re-scoring")
+    if method == "exhaustive" and stop:
+        certified = False
+    if sharing:
+        certified = False
+        notes.append(f"with current sharing: searched with equal shares, the best "
+                     f"{SHARING_RESCORE} candidates re-scored with the solved sharing")
+    if stop:
+        notes.append({"budget": "stopped at the time budget: best found so far",
+                      "cancelled": "cancelled: best found so far"}.get(stop, stop))
+    if constraints and len(options) < top_k:
+        notes.append(f"only {len(options)} option(s) passed the constraints")
+    opts = tuple(
+        RankOption(rank=r + 1, max_resultant_uT=v,
+                   reduction_pct=100.0 * (1.0 - v / baseline) if baseline > 0 else 0.0,
+                   reduction_db=_db(baseline, v), far_field_order=order,
+                   positions=pos, sketch=sketch(layout, pos), figures=figs)
+        for r, (v, pos, order, figs) in enumerate(options))
+    return RankResult(distance_mm=float(distance_mm), method=method, evaluated=int(evaluated),
+                      distinct=int(distinct), baseline_uT=float(baseline), options=opts,
+                      elapsed_s=time.perf_counter() - t0, stopped_early=bool(stop),
+                      objective=obj.label, certified=bool(certified and method == "exhaustive"),
+                      screened=int(screened), notes=tuple(notes),
+                      baseline_positions=base_pos)
+
+
+def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
+                notes: list[str]) -> None:
+    """Find the transformations that leave the objective unchanged (merged in the options)."""
+    if space.n_positions == 0:
+        return
+    axis = obj.mirror_axis_mm(layout)
+    mirror = find_mirror(space, layout, axis, identity) if axis is not None else None
+    kmaps = phase_symmetries(space, layout, conjugate=not identity)
+    if mirror is not None:
+        space.mirror, space.mirror_axis_mm = mirror, axis
+        notes.append(f"mirror twins merged (symmetric about x = {axis:g} mm)")
+    if kmaps:
+        notes.append(f"phase relabellings with equal field merged ({len(kmaps)} besides "
+                     "the identity)")
+    space.symmetries = symmetry_group(mirror, kmaps)
+
+
+def _search(layout: Layout, space, src, obj: Objective, pool: Pool,  # noqa: ANN001
+            method: str, distinct: int, *, seed: int, identity: bool,
+            deadline: float | None, cancel: Callable[[], bool] | None,
+            reporter: _Reporter, patience: int | None, max_evaluations: int | None
+            ) -> tuple[int, int, str]:
+    """Fill ``pool`` by the chosen method; returns (evaluated, screened, stop reason)."""
+    if space.n_positions == 0:
+        pool.add(np.zeros((1, 0), dtype=np.int64), np.zeros(1))
+        return 1, 0, ""
+    tables = Tables(space, src, obj.search_m)
+    if method == "exhaustive":
+        if distinct > _SMALL:
+            run_local(space, tables, pool, seed=seed, patience=_SEED_DESCENTS,
+                      deadline=deadline, cancel=cancel)
+        done, stop = exhaustive(
+            space, tables, pool, deadline=deadline, cancel=cancel,
+            tick=lambda n: reporter(n / distinct, f"{n:,} of {distinct:,} arrangements", pool))
+        return done, 0, stop
+    t0 = reporter.t0
+    span = max(1e-9, (deadline or t0) - t0)
+    stats = run_heuristic(
+        layout, space, tables, pool, seed=seed, identity=identity,
+        patience=patience if patience is not None else max(200, 12 * space.n_positions),
+        deadline=deadline, max_evaluations=max_evaluations, cancel=cancel,
+        tick=lambda st, best: reporter((time.perf_counter() - t0) / span,
+                                       f"{st.descents:,} descents, {st.evaluated:,} "
+                                       "arrangements", pool))
+    return (stats.evaluated, stats.screened,
+            "" if stats.stopped == "evaluations" else stats.stopped)
+
+def _closest(space, code: np.ndarray) -> np.ndarray:  # noqa: ANN001
+    """Of a symmetry class, the member that leaves most conductors where they are now."""
+    if not space.symmetries or space.baseline is None:
+        return code
+    orbit = space.orbit(code)
+    same = (orbit == space.baseline[None, :]).sum(axis=1)
+    return orbit[int(np.argmax(same))]
+
+
+def _db(base: float, v: float) -> float:
+    if base <= 0:
+        return 0.0
+    return float(20.0 * np.log10(base / v)) if v > 0 else float("inf")
+
+
+def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,  # noqa: ANN001
+             constraints: Sequence[Constraint], sharing: bool = False) -> tuple[list, bool]:
+    """Re-score the pool in sampled order with the exact objective; returns (options, certified).
+
+    Stops once the next sampled value is at or above the K-th re-scored value, which proves
+    no arrangement left (in the pool or outside it) can enter the top K. With ``sharing``
+    the currents of each candidate come from its own sharing solve, the sampled values are
+    no bound, and the first :data:`SHARING_RESCORE` candidates are re-scored instead.
+    """
+    sampled = np.sqrt(pool.values) * UT
+    found: list[tuple[float, dict, int | None, dict]] = []
+    names = [c.name for c in layout.conductors]
+    certified = False
+    for n in range(len(pool)):
+        if sharing:
+            if n >= max(SHARING_RESCORE, top_k):
+                break
+        elif len(found) >= top_k and sampled[n] * (1.0 - 1e-9) >= found[top_k - 1][0]:
+            certified = True
+            break
+        a = _closest(space, pool.codes[n].astype(np.int64))
+        pos = space.positions_of(a, layout)
+        moved = layout.with_positions(pos)
+        ok, figs = _check(constraints, moved) if constraints else (True, {})
+        if not ok:
+            continue
+        value = obj.score_uT(sources(moved, sharing_overrides(moved)) if sharing else src,
+                             layout, pos)
+        xy = np.array([pos[nm] for nm in names], dtype=float).reshape(-1, 2) * MM
+        order = far_field(xy, src.currents).order
+        found.append((value, pos, order, figs))
+        found.sort(key=lambda f: f[0])
+    else:
+        threshold = np.sqrt(pool.threshold()) * UT
+        certified = len(found) >= top_k and found[top_k - 1][0] <= threshold * (1 - 1e-9)
+        if len(pool) < pool.capacity:  # the pool holds every arrangement there is
+            certified = True
+    return found[:top_k], certified
+
+
+class _Reporter:
+    """Rate-limited progress messages with the best sampled field so far."""
+
+    def __init__(self, progress: Callable[[float, str], None] | None, t0: float) -> None:
+        self.progress, self.t0, self.last = progress, t0, 0.0
+
+    def __call__(self, fraction: float, what: str, pool: Pool) -> None:
+        if self.progress is None:
+            return
+        now = time.perf_counter()
+        if now - self.last < 0.2:
+            return
+        self.last = now
+        best = f"; best so far {np.sqrt(pool.values[0]) * UT:.4g} µT" if len(pool) else ""
+        self.progress(float(min(1.0, max(0.0, fraction))), what + best)

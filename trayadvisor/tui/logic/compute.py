@@ -1,0 +1,77 @@
+"""The field work the views need, as plain functions a worker thread runs.
+
+Every figure comes from the same calls the CLI makes (:func:`trayadvisor.analysis.summary.
+field_summary` and :func:`~trayadvisor.analysis.summary.field_grid_uT`), so the UI and the CLI
+cannot disagree. Results go out through ``emit`` one stage at a time, the cheap ones first,
+and the work stops between stages once ``cancelled()`` says a newer request exists.
+No textual here.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from trayadvisor.analysis.summary import FieldSummary, LimitFigure, field_grid_uT, field_summary
+from trayadvisor.model import Layout, Limit
+from trayadvisor.tui.logic.viewport import Viewport
+
+
+@dataclass(frozen=True)
+class SummaryDone:
+    """Stray field at d, its peak, far-field order and the curve (no limits yet)."""
+
+    summary: FieldSummary
+
+
+@dataclass(frozen=True)
+class LimitDone:
+    """One limit's verdict at d and its clearance distance."""
+
+    figure: LimitFigure
+
+
+@dataclass(frozen=True)
+class Failed:
+    """The engines raised; the UI shows ``message`` and keeps running."""
+
+    message: str
+
+
+Result = SummaryDone | LimitDone | Failed
+
+
+def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
+                 emit: Callable[[Result], object],
+                 cancelled: Callable[[], bool] = lambda: False, summary: bool = True) -> None:
+    """Compute the readouts of one layout in stages.
+
+    1. With ``summary``: ``field_summary(layout, d)`` without limits (milliseconds),
+       emitted as SummaryDone.
+    2. For each limit in ``limits``, ``field_summary`` with just that limit, which adds its
+       clearance search (tens of ms each): one LimitDone each.
+    """
+    base = replace(layout, limits=())
+    try:
+        if summary:
+            result = field_summary(base, distance_mm)
+            if cancelled():
+                return
+            emit(SummaryDone(result))
+        for lim in limits:
+            if cancelled():
+                return
+            fig = field_summary(base, distance_mm,
+                                limits=[(lim.name, lim.ut, lim.source)]).limits[-1]
+            if cancelled():
+                return
+            emit(LimitDone(fig))
+    except Exception as exc:  # a UI must survive an engine error: show it, keep running
+        emit(Failed(f"field computation failed: {type(exc).__name__}: {exc}"))
+
+
+def map_grid(layout: Layout, vp: Viewport) -> np.ndarray:
+    """Resultant field (µT) at the window's pixel centres, row 0 at the lowest y."""
+    return field_grid_uT(layout, vp.bounds_mm, vp.cols, vp.px_rows)

@@ -1,0 +1,197 @@
+"""The Ranking view's run parameters, table rows and run summary, as plain functions.
+
+Every figure shown is the ranking engine's own (:func:`trayadvisor.ranking.rank.rank_layout`,
+the call ``trayadvisor rank`` makes); this module only formats them and decides whether a
+result still fits the layout on screen. No textual here.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from trayadvisor.model import Layout
+from trayadvisor.ranking.rank import RankOption, RankResult, apply_option
+from trayadvisor.output.wording import decay_text, fmt_ut
+
+MAX_TOP_K = 50  #: most options one run lists
+CONTOUR = "contour"  #: the objective value that means "the contour at d"
+
+#: Short column titles for figures the constraints add to ``RankOption.figures``.
+FIGURE_LABELS = {"imbalance_pct": "imbal %", "induced_mV_per_m": "mV/m"}
+
+
+@dataclass(frozen=True)
+class RankParams:
+    """What one ranking run asks for (distance d comes from the view settings).
+
+    Attributes
+    ----------
+    top_k : int
+        Options to list (1 to :data:`MAX_TOP_K`).
+    objective : str or None
+        None: the maximum on the contour at d; ``"line:NAME"`` / ``"point:NAME"``: a named
+        observation line or point of the layout.
+    budget_s : float or None
+        Time budget in seconds; None leaves it to the engine (exact search has none, the
+        heuristic search has its default).
+    """
+
+    top_k: int = 5
+    objective: str | None = None
+    budget_s: float | None = None
+
+    def __post_init__(self) -> None:
+        if isinstance(self.top_k, bool) or not 1 <= self.top_k <= MAX_TOP_K:
+            raise ValueError(f"top K must be a whole number from 1 to {MAX_TOP_K}")
+        b = self.budget_s
+        if b is not None and not (math.isfinite(b) and b > 0):
+            raise ValueError("the time budget must be a positive number of seconds")
+        o = self.objective
+        if o is not None and (o.partition(":")[0] not in ("line", "point")
+                              or not o.partition(":")[2]):
+            raise ValueError("objective: the contour, line:NAME or point:NAME")
+
+
+def objective_choices(layout: Layout) -> list[tuple[str, str]]:
+    """(label, value) of every objective the layout offers: the contour, its named lines
+    and points."""
+    out = [("contour at d (stray field)", CONTOUR)]
+    out += [(f"line {ln.name}", f"line:{ln.name}") for ln in layout.lines]
+    out += [(f"point {p.name}", f"point:{p.name}") for p in layout.points]
+    return out
+
+
+def objective_text(objective: str | None, distance_mm: float) -> str:
+    if objective is None:
+        return f"max on the contour at d {distance_mm:g} mm"
+    kind, _, name = objective.partition(":")
+    return f"max on line {name}" if kind == "line" else f"field at point {name}"
+
+
+def usable_params(params: RankParams, layout: Layout) -> RankParams:
+    """``params`` with an objective the layout no longer names reset to the contour."""
+    if params.objective is None:
+        return params
+    if params.objective in {v for _, v in objective_choices(layout)}:
+        return params
+    return RankParams(params.top_k, None, params.budget_s)
+
+
+# -- the table ------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Column:
+    key: str
+    label: str
+
+
+def figure_keys(result: RankResult) -> tuple[str, ...]:
+    """Extra figure names the options carry (constraint values), sorted."""
+    return tuple(sorted({k for o in result.options for k in o.figures}))
+
+
+def columns(result: RankResult | None) -> list[Column]:
+    """The option table's columns: rank, field, reduction, far field, extra figures, moves."""
+    cols = [Column("rank", "#"), Column("uT", "µT"), Column("pct", "lower %"),
+            Column("db", "dB"), Column("order", "far field")]
+    if result is not None:
+        cols += [Column(f"fig:{k}", FIGURE_LABELS.get(k, k)) for k in figure_keys(result)]
+    cols.append(Column("moved", "moves"))
+    return cols
+
+
+def moved_count(result: RankResult, option: RankOption) -> int:
+    """Conductors the option puts somewhere else than where they were when ranked."""
+    n = 0
+    for name, (x, y) in option.positions.items():
+        base = result.baseline_positions.get(name)
+        if base is None or math.hypot(base[0] - x, base[1] - y) > 1e-6:
+            n += 1
+    return n
+
+
+def _pct(v: float) -> str:
+    return f"{v:.1f}" if math.isfinite(v) else "–"
+
+
+def _db(v: float) -> str:
+    if math.isinf(v):
+        return "inf"
+    return f"{v:.1f}" if math.isfinite(v) else "–"
+
+
+def order_text(order: int | None) -> str:
+    return decay_text(order, short=True, none="–")
+
+
+def fmt_figure(v: float) -> str:
+    return f"{v:.3g}" if math.isfinite(v) else "–"
+
+
+def option_cells(result: RankResult, option: RankOption) -> list[str]:
+    """One table row, in :func:`columns` order."""
+    cells = [str(option.rank), fmt_ut(option.max_resultant_uT), _pct(option.reduction_pct),
+             _db(option.reduction_db), order_text(option.far_field_order)]
+    cells += [fmt_figure(option.figures[k]) if k in option.figures else "–"
+              for k in figure_keys(result)]
+    cells.append(f"{moved_count(result, option)}")
+    return cells
+
+
+def _count(n: int) -> str:
+    return f"{n:,}" if n < 10**9 else f"{n:.2g}"
+
+
+def run_line(result: RankResult) -> str:
+    """Method, arrangements evaluated, exactness and time, in one line."""
+    done = _count(result.evaluated)
+    if result.distinct is not None:
+        done += f" of {_count(result.distinct)}"
+    stop = " (stopped early: best found so far)" if result.stopped_early else ""
+    exact = " · top options exact" if result.certified else ""
+    return (f"{result.method}{stop}: {done} arrangements evaluated{exact} · "
+            f"{result.elapsed_s:.1f} s")
+
+
+def run_notes(result: RankResult) -> list[str]:
+    """The engine's notes, less the stop reason :func:`run_line` already gives."""
+    return [n for n in result.notes
+            if not n.startswith(("cancelled:", "stopped at the time budget"))]
+
+
+def option_lines(result: RankResult, option: RankOption, n_conductors: int) -> list[str]:
+    """The highlighted option's figures, then the figure of the arrangement ranked."""
+    lines = [f"Option {option.rank} of {len(result.options)} (a applies)",
+             f" {fmt_ut(option.max_resultant_uT)} µT, {_pct(option.reduction_pct)} % lower, "
+             f"{_db(option.reduction_db)} dB",
+             f" far field {order_text(option.far_field_order)}",
+             f" moves {moved_count(result, option)} of {n_conductors} conductors"]
+    lines += [f" {FIGURE_LABELS.get(k, k)} {fmt_figure(v)}" for k, v in option.figures.items()]
+    lines.append(f"Before (as ranked): {fmt_ut(result.baseline_uT)} µT")
+    return lines
+
+
+# -- does a result still fit the open layout? ------------------------------------------------
+def fits(option: RankOption, ranked: Layout, layout: Layout) -> bool:
+    """True when applying ``option`` to ``layout`` gives what it gives on the layout that was
+    ranked: only positions changed since, so the option's figures still hold."""
+    try:
+        return apply_option(layout, option) == apply_option(ranked, option)
+    except (KeyError, ValueError):
+        return False
+
+
+def staleness(result: RankResult, ranked: Layout, layout: Layout, objective: str | None,
+              distance_mm: float) -> str:
+    """Why the result on show no longer describes the open layout ("" when it does)."""
+    if result.options and not fits(result.options[0], ranked, layout):
+        return "the layout changed since this ranking (not only positions): r ranks again"
+    if objective is None and not math.isclose(result.distance_mm, distance_mm):
+        return (f"ranked at d {result.distance_mm:g} mm, d is now {distance_mm:g} mm: "
+                "r ranks again")
+    if layout != ranked:
+        for opt in result.options:
+            if apply_option(ranked, opt) == layout:
+                return f"the open layout is option {opt.rank} (u undoes)"
+        return "conductors moved since this ranking; the options still apply as listed"
+    return ""

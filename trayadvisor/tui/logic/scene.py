@@ -1,0 +1,238 @@
+"""What each character cell of the cross-section canvas shows, as (glyph, style key) pairs.
+
+The canvas widget only turns style keys into terminal styles; deciding where trays,
+conductors, the contour at d and the field map go happens here, without textual, so it can
+be tested directly. Field values arrive already computed (``field_grid_uT`` in a worker);
+nothing here computes a field.
+
+Style keys (hashable tuples):
+``("px", top, bottom)`` half block with palette colours; ``("shade", band)``;
+``("iso", digit)``; ``("tray", bg)``; ``("dot", bg)``; ``("peak", bg)``;
+``("cond", circuit_index, emphasis, on_map)`` with emphasis 0 plain, 1 same circuit as the
+selection, 2 selected; ``("note",)``; ``None`` blank. ``bg`` is a palette index or None.
+"""
+
+from __future__ import annotations
+
+import math
+import string
+from dataclasses import dataclass
+
+import numpy as np
+
+from trayadvisor.model import Layout
+from trayadvisor.tui.logic.mapscale import SHADES, MapScale, iso_digits
+from trayadvisor.tui.logic.viewport import Bounds, Viewport
+
+#: One glyph per phase label (SPEC phases), so phases read without colour.
+PHASE_GLYPH: dict[str, str] = {"L1": "1", "L2": "2", "L3": "3", "N": "n", "PE": "e",
+                               "L": "L", "+": "+", "-": "−", "a": "a", "b": "b"}
+#: Circuit tags, in circuit order: A, B, C, ...
+TAGS = string.ascii_uppercase + string.digits
+
+Key = tuple | None
+Cell = tuple[str, Key]
+
+
+def drawing_bounds(layout: Layout) -> Bounds:
+    """What "fit" shows: the trays and conductors (a 1 m square round a lone point)."""
+    x0, y0, x1, y1 = layout.envelope_mm()
+    for c in layout.conductors:
+        x0, y0 = min(x0, c.x_mm - c.radius_mm), min(y0, c.y_mm - c.radius_mm)
+        x1, y1 = max(x1, c.x_mm + c.radius_mm), max(y1, c.y_mm + c.radius_mm)
+    if x1 - x0 < 1 and y1 - y0 < 1:
+        return (x0 - 500, y0 - 500, x1 + 500, y1 + 500)
+    return (x0, y0, x1, y1)
+
+
+def circuit_tags(layout: Layout) -> dict[str, str]:
+    """Circuit name -> one-letter tag (A, B, ... in file order)."""
+    return {c.name: TAGS[i % len(TAGS)] for i, c in enumerate(layout.circuits)}
+
+
+def conductor_label(layout: Layout, name: str) -> str:
+    """The two-character label of a conductor: circuit tag + phase glyph, e.g. ``A1``."""
+    c = layout.conductors[layout.conductor_index(name)]
+    return circuit_tags(layout).get(c.circuit, "?") + PHASE_GLYPH.get(c.phase, "?")
+
+
+@dataclass(frozen=True)
+class FieldMap:
+    """A computed grid of resultant field (µT), row 0 at the lowest y (as field_grid_uT)."""
+
+    bounds_mm: Bounds
+    values_uT: np.ndarray  # (ny, nx)
+    scale: MapScale
+
+
+@dataclass
+class Scene:
+    rows: list[list[Cell]]
+    hidden: int  # conductors inside the window that share a cell with another
+
+
+def _resample(fmap: FieldMap, vp: Viewport) -> np.ndarray:
+    """The map's values at the window's pixel centres, top row first (NaN where not known)."""
+    x0, y0, x1, y1 = vp.bounds_mm
+    s = vp.mm_per_col
+    xs = x0 + (np.arange(vp.cols) + 0.5) * s
+    ys = y1 - (np.arange(vp.px_rows) + 0.5) * s
+    gx0, gy0, gx1, gy1 = fmap.bounds_mm
+    ny, nx = fmap.values_uT.shape
+    ix = np.floor((xs - gx0) / (gx1 - gx0) * nx).astype(int)
+    iy = np.floor((ys - gy0) / (gy1 - gy0) * ny).astype(int)
+    okx, oky = (ix >= 0) & (ix < nx), (iy >= 0) & (iy < ny)
+    out = fmap.values_uT[np.clip(iy, 0, ny - 1)][:, np.clip(ix, 0, nx - 1)]
+    return np.where(oky[:, None] & okx[None, :], out, np.nan)
+
+
+def _map_cells(fmap: FieldMap, vp: Viewport, style: str) -> tuple[list[list[Cell]], np.ndarray]:
+    """Map cells and the per-cell background palette index (-1: none)."""
+    px = _resample(fmap, vp)
+    known = ~np.isnan(px)
+    vals = np.where(known, px, 0.0)
+    if style == "colour":
+        idx = fmap.scale.colour_index(vals)
+        top, bot = idx[0::2], idx[1::2]
+        ok = known[0::2] & known[1::2]
+        bg = np.where(ok, (top + bot) // 2, -1)
+        rows = [[("▀", ("px", int(t), int(b))) if k else (" ", None)
+                 for t, b, k in zip(tr, br, kr, strict=True)]
+                for tr, br, kr in zip(top.tolist(), bot.tolist(), ok.tolist(), strict=True)]
+        return rows, bg
+    cell = np.maximum(vals[0::2], vals[1::2])
+    ok = known[0::2] | known[1::2]
+    bands = np.where(ok, fmap.scale.band(cell), 0)
+    digits = iso_digits(bands)
+    rows = []
+    for br, dr, kr in zip(bands.tolist(), digits.tolist(), ok.tolist(), strict=True):
+        rows.append([(str(d), ("iso", d)) if d and k else (SHADES[b], ("shade", b))
+                     for b, d, k in zip(br, dr, kr, strict=True)])
+    return rows, np.full(bands.shape, -1)
+
+
+def _scale_bar(vp: Viewport) -> str:
+    """A bar about a sixth of the window wide with a 1-2-5 length, e.g. ``├──┤ 200 mm``."""
+    target = max(vp.cols / 6.0, 3.0) * vp.mm_per_col
+    k = math.floor(math.log10(target))
+    length = max(m * 10.0 ** k for m in (1, 2, 5) if m * 10.0 ** k <= target)
+    n = max(2, round(length / vp.mm_per_col))
+    text = f"{length / 1000:g} m" if length >= 1000 else f"{length:g} mm"
+    return "├" + "─" * (n - 2) + "┤ " + text
+
+
+def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
+                fmap: FieldMap | None = None, style: str = "colour",
+                contour_mm: np.ndarray | None = None,
+                peak_mm: tuple[float, float] | None = None) -> Scene:
+    """The canvas contents for one window.
+
+    Parameters
+    ----------
+    layout, vp, selected
+        The model, the window and the selected conductor's name.
+    fmap : FieldMap, optional
+        Draw this field map underneath (``style`` "colour": half blocks; "shade": glyphs
+        and iso-level digits).
+    contour_mm : (k, 2) array, optional
+        Points of the curve at distance d, drawn as dots.
+    peak_mm : (x, y), optional
+        Where the field on that curve peaks, drawn as ``×``.
+    """
+    cols, nrows = vp.cols, vp.rows
+    if fmap is not None:
+        rows, bg = _map_cells(fmap, vp, style)
+    else:
+        rows = [[(" ", None)] * cols for _ in range(nrows)]
+        bg = np.full((nrows, cols), -1)
+
+    def put(c: int, r: int, ch: str, kind: str) -> None:
+        if 0 <= c < cols and 0 <= r < nrows:
+            b = int(bg[r, c])
+            rows[r][c] = (ch, (kind, b if b >= 0 else None))
+
+    if contour_mm is not None and len(contour_mm):
+        pts = np.asarray(contour_mm, float)
+        x0, _, _, y1 = vp.bounds_mm
+        cc = np.floor((pts[:, 0] - x0) / vp.mm_per_col).astype(int)
+        rr = (np.floor((y1 - pts[:, 1]) / vp.mm_per_col).astype(int)) // 2
+        inside = (cc >= 0) & (cc < cols) & (rr >= 0) & (rr < nrows)
+        for c, r in set(zip(cc[inside].tolist(), rr[inside].tolist(), strict=True)):
+            put(c, r, "·", "dot")
+    for t in layout.trays:
+        x0, y0, x1, y1 = t.bounds
+        c0, c1 = vp.col_of(x0), vp.col_of(x1)
+        r0, r1 = vp.row_of(y1), vp.row_of(y0)
+        for c in range(max(c0, 0), min(c1, cols - 1) + 1):
+            put(c, r0, "─", "tray")
+            put(c, r1, "─", "tray")
+        for r in range(max(r0, 0), min(r1, nrows - 1) + 1):
+            put(c0, r, "│", "tray")
+            put(c1, r, "│", "tray")
+        for c, r, ch in ((c0, r0, "┌"), (c1, r0, "┐"), (c0, r1, "└"), (c1, r1, "┘")):
+            put(c, r, ch, "tray")
+        if c1 - c0 >= len(t.name) + 3:
+            for k, ch in enumerate(t.name):
+                put(c0 + 1 + k, r0, ch, "tray")
+    if peak_mm is not None:
+        put(*vp.cell_of(*peak_mm), "×", "peak")
+    hidden = _place_conductors(layout, vp, selected, rows, fmap is not None)
+    bar = _scale_bar(vp)
+    if len(bar) < cols - 1 and nrows > 2:
+        for k, ch in enumerate(bar):
+            rows[nrows - 1][1 + k] = (ch, ("note",))
+    if hidden:
+        note = f"+{hidden} hidden: zoom in"
+        if len(note) < cols:
+            for k, ch in enumerate(note):
+                rows[0][cols - len(note) + k] = (ch, ("note",))
+    return Scene(rows, hidden)
+
+
+def _place_conductors(layout: Layout, vp: Viewport, selected: str | None,
+                      rows: list[list[Cell]], on_map: bool) -> int:
+    """Write conductor labels into ``rows``; returns how many could not be shown.
+
+    Pass 1 gives every conductor its centre cell (the selected one first); pass 2 widens
+    labels into free cells to the left: ``A1`` (circuit tag + phase), ``(A1)`` when the
+    conductor is at least five cells wide; the phase glyph always sits on the centre cell.
+    """
+    cols, nrows = vp.cols, vp.rows
+    tags = circuit_tags(layout)
+    index = {c.name: i for i, c in enumerate(layout.circuits)}
+    sel_circuit = None
+    order = list(layout.conductors)
+    for k, c in enumerate(order):
+        if c.name == selected:
+            sel_circuit = c.circuit
+            order.insert(0, order.pop(k))
+            break
+    taken: dict[tuple[int, int], str] = {}
+    placed = []
+    hidden = 0
+    for c in order:
+        col, row = vp.cell_of(c.x_mm, c.y_mm)
+        if not (0 <= col < cols and 0 <= row < nrows):
+            continue
+        if (col, row) in taken:
+            hidden += 1
+            continue
+        taken[(col, row)] = c.name
+        placed.append((c, col, row))
+    for c, col, row in placed:
+        emph = 2 if c.name == selected else (1 if c.circuit == sel_circuit else 0)
+        key = ("cond", index.get(c.circuit, -1), emph, on_map)
+        glyph = PHASE_GLYPH.get(c.phase, "?")
+        tag = tags.get(c.circuit, "?")
+        options = []
+        if c.diameter_mm / vp.mm_per_col >= 5.0:
+            options.append((col - 2, f"({tag}{glyph})"))
+        options += [(col - 1, f"{tag}{glyph}"), (col, glyph)]
+        for start, text in options:
+            cells = [(start + k, row) for k, ch in enumerate(text)]
+            if all(0 <= x < cols and taken.get((x, row), c.name) == c.name for x, _ in cells):
+                for (x, _), ch in zip(cells, text, strict=True):
+                    taken[(x, row)] = c.name
+                    rows[row][x] = (ch, key)
+                break
+    return hidden
