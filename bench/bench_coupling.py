@@ -28,15 +28,15 @@ from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.analysis.summary import stray_uT
-from trayadvisor.coupling.victims import induced_emf
 from trayadvisor.coupling.constraints import (
     imbalance_constraint,
     induced_voltage_constraint,
     positions_m,
 )
-from trayadvisor.model import Circuit, Conductor, Layout, Tray
 from trayadvisor.coupling.sharing import sharing_plan, solve_sharing
+from trayadvisor.coupling.victims import induced_emf
+from trayadvisor.engine import stray_uT
+from trayadvisor.model import Circuit, Conductor, Layout, Tray
 
 REPEATS = 15
 

@@ -27,12 +27,12 @@ import time
 
 import numpy as np
 
+from trayadvisor.engine.currents import MM, layout_sources
 from trayadvisor.engine.field import phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.ranking.build import build_space
 from trayadvisor.ranking.objective import make_objective
-from trayadvisor.engine.currents import MM, sources
+from trayadvisor.ranking.rank import rank_layout
 
 
 def feeder(n_sets: int, d: float, layers: int = 1) -> Layout:
@@ -51,7 +51,7 @@ def feeder(n_sets: int, d: float, layers: int = 1) -> Layout:
 
 def plain_rate(lay: Layout, n: int = 300, repeats: int = 3) -> float:
     """Arrangements per second scored one by one with phasor_field (the baseline)."""
-    src = sources(lay)
+    src = layout_sources(lay)
     pts = make_objective(lay, 500.0, None, src).search_m
     space = build_space(lay)
     rng = np.random.default_rng(0)

@@ -123,8 +123,7 @@ def bench_batch(kind: str, job, files: list[str], workers: int, repeat: int,  # 
 
 
 def main() -> int:
-    from trayadvisor.batch import default_workers
-    from trayadvisor.cli.batch_runs import field_job, rank_job
+    from trayadvisor.batch import default_workers, field_job, rank_job
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--repeat", type=int, default=3)

@@ -30,7 +30,8 @@ from pathlib import Path
 
 from textual import events
 
-from trayadvisor.layoutfile.reader import validate_layout, write_layout
+from trayadvisor.layoutfile import write_layout
+from trayadvisor.layoutfile.reader import validate_layout
 from trayadvisor.model import Circuit, Conductor, Layout, Limit, Tray
 
 SIZE = (120, 40)

@@ -10,8 +10,15 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.batch import FileResult, expand_inputs, run_files, run_one
-from trayadvisor.cli.batch_runs import FIELD_COLUMNS, ProgressBar, csv_text, field_job
+from trayadvisor.batch import (
+    FIELD_COLUMNS,
+    FileResult,
+    expand_inputs,
+    field_job,
+    run_files,
+    run_one,
+)
+from trayadvisor.cli.batch_runs import ProgressBar, summary_csv
 from trayadvisor.cli.main import main
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -201,7 +208,7 @@ def test_a_failing_computation_is_an_error_row_not_a_crash(tmp_path):
                     paths, workers=1)
     assert [r.ok for r in res] == [True, False, True]
     assert res[1].error == f"{paths[1]}:0: could not compute (RuntimeError: engine limit)"
-    text = csv_text(res, FIELD_COLUMNS)
+    text = summary_csv(res, FIELD_COLUMNS)
     assert text.splitlines()[2].startswith(f"{paths[1]},error,")
 
 

@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.main import main
+from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile.reader import read_layout
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.cli.main import main
-from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.coupling import coupling_summary
 from trayadvisor.layoutfile.reader import read_layout
 
 # An invented tray: one feeder in two parallel sets and an instrument pair beside it.

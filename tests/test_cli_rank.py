@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.analysis.summary import stray_uT
 from trayadvisor.cli.main import main
+from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile.reader import read_layout
 
 HEAD = """format = "trayadvisor/1"

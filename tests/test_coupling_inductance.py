@@ -7,6 +7,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from references import (
+    MU0,  # μ0 = 4π × 10⁻⁷ T·m/A; its source is named in references.py
+    neumann_mutual,
+)
 
 from trayadvisor.coupling.inductance import (
     GMR_SOLID,
@@ -14,11 +18,8 @@ from trayadvisor.coupling.inductance import (
     layout_loops,
     loop_inductance_matrix,
     mutual_inductance_per_m,
-    neumann_mutual_numeric,
 )
 from trayadvisor.model import Circuit, Conductor, Layout
-
-MU0 = 4e-7 * np.pi  # Source: SPEC.md references (μ0 = 4π × 10⁻⁷ T·m/A within 1e-9 of CODATA)
 
 
 def closed_form(p1, p2, p3, p4) -> float:
@@ -167,7 +168,7 @@ def test_grover_tends_to_long_run_limit(ratio):
 @pytest.mark.parametrize("l,d", [(1.0, 0.1), (0.3, 0.3), (2.0, 0.02), (0.05, 1.0)])
 def test_grover_matches_numerical_neumann_integral(l, d):  # noqa: E741
     # Source: the Neumann double integral evaluated by scipy.integrate.dblquad.
-    assert float(grover_mutual_finite(l, d)) == pytest.approx(neumann_mutual_numeric(l, d),
+    assert float(grover_mutual_finite(l, d)) == pytest.approx(neumann_mutual(l, d),
                                                               rel=1e-8)
 
 

@@ -4,18 +4,18 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from references import MU0  # μ0 = 4π × 10⁻⁷ T·m/A; its source is named in references.py
 
 from trayadvisor.analysis.summary import field_summary
-from trayadvisor.model import Circuit, Conductor, Layout
 from trayadvisor.coupling.sharing import (
     DEFAULT_TEMPERATURE_C,
     resistance_per_m,
     sharing_overrides,
     solve_sharing,
 )
-from trayadvisor.engine.currents import sources
+from trayadvisor.engine.currents import layout_sources
+from trayadvisor.model import Circuit, Conductor, Layout
 
-MU0 = 4e-7 * np.pi  # Source: SPEC.md references (4π × 10⁻⁷, within 1e-9 of CODATA)
 # Source: IEC 60228 / IEC 60287-1-1 Table 1, annealed copper ρ20 and α20 (from memory)
 RHO_CU, ALPHA_CU = 1.7241e-8, 3.93e-3
 
@@ -118,7 +118,7 @@ def test_dc_parallel_conductors_share_by_resistance():
     lay = Layout(circuits=(Circuit("B", "dc", 290.0),), conductors=cons)
     res = solve_sharing(lay)
     got = {s.conductor: s for s in res.shares}
-    np.testing.assert_allclose(sources(lay, sharing_overrides(lay)).currents, res.currents)
+    np.testing.assert_allclose(layout_sources(lay, sharing_overrides(lay)).currents, res.currents)
     assert got["P1"].current == pytest.approx(290.0 * 95 / 145, rel=1e-12)
     assert res.groups[0].order == 0
     assert res.groups[0].imbalance_pct == pytest.approx(45 / 72.5 * 100, rel=1e-12)
@@ -143,7 +143,7 @@ def harmonic_tray() -> Layout:
 def test_solved_currents_sum_to_each_phase_current_at_every_component():
     lay = harmonic_tray()
     res = solve_sharing(lay)
-    nominal = sources(lay)  # equal shares: the phase currents split evenly
+    nominal = layout_sources(lay)  # equal shares: the phase currents split evenly
     np.testing.assert_array_equal(res.orders, nominal.orders)
     for g in res.groups:
         idx = [res.names.index(n) for n in g.conductors]
@@ -173,9 +173,9 @@ def test_overrides_feed_sources_and_change_the_field():
     ov = sharing_overrides(lay)
     assert set(ov) == {int(h) for h in res.orders}
     assert set(ov[1]) == {s.conductor for s in res.shares}
-    np.testing.assert_allclose(sources(lay, ov).currents, res.currents, atol=1e-12)
-    equal = field_summary(lay, 500.0).max_resultant_uT
-    shared = field_summary(lay, 500.0, overrides=ov).max_resultant_uT
+    np.testing.assert_allclose(layout_sources(lay, ov).currents, res.currents, atol=1e-12)
+    equal = field_summary(lay, distance_mm=500.0).max_resultant_uT
+    shared = field_summary(lay, distance_mm=500.0, sharing=True).max_resultant_uT
     assert shared != pytest.approx(equal, rel=1e-3)
 
 
@@ -209,8 +209,8 @@ def test_sharing_is_independent_of_where_the_origin_is():
 def test_coincident_conductors_give_no_imbalance_figure_rather_than_zero():
     # Two parallel conductors at one place: the mutual inductance ln(1/0) has no value, so
     # the imbalance must be reported as missing (NaN), never as a reassuring 0 %.
-    from trayadvisor.model import Circuit, Conductor, Layout
     from trayadvisor.coupling.sharing import solve_sharing
+    from trayadvisor.model import Circuit, Conductor, Layout
 
     cons = (Conductor("a1", "F", "L", 0.0, 0.0, 10.0), Conductor("a2", "F", "L", 0.0, 0.0, 10.0),
             Conductor("n", "F", "N", 50.0, 0.0, 10.0))

@@ -9,6 +9,7 @@ import os
 
 import pytest
 
+from trayadvisor.model import Circuit, Conductor, Layout, Tray
 from trayadvisor.output.exports import (
     ExportError,
     export_format,
@@ -17,7 +18,6 @@ from trayadvisor.output.exports import (
     result_markdown,
     write_result,
 )
-from trayadvisor.model import Circuit, Conductor, Layout, Tray
 from trayadvisor.ranking.rank import rank_layout
 
 

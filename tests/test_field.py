@@ -15,13 +15,13 @@ from hypothesis import strategies as st
 
 from trayadvisor.engine.field import (
     K_LINE,
-    MU0,
     ellipse_major_rms,
     far_field,
     phasor_field,
     resultant_rms,
     unit_field,
 )
+from trayadvisor.engine.units import MU0
 
 UT = 1e6
 P1 = np.exp(1j * np.deg2rad(0.0))  # L1 — Source: common practice (L1 0°, L2 −120°, L3 +120°)

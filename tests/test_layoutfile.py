@@ -22,16 +22,10 @@ import pytest
 import tomli_w
 from scipy.spatial.distance import cdist
 
+from trayadvisor.layoutfile import atomic_write_text, dumps_layout, write_layout
 from trayadvisor.layoutfile import reader as layoutfile
-from trayadvisor.layoutfile.reader import (
-    LayoutError,
-    atomic_write_text,
-    dumps_layout,
-    parse_layout,
-    read_layout,
-    validate_layout,
-    write_layout,
-)
+from trayadvisor.layoutfile.checks import layout_problems, overlapping_pairs
+from trayadvisor.layoutfile.reader import LayoutError, parse_layout, read_layout, validate_layout
 from trayadvisor.model import (
     Circuit,
     Conductor,
@@ -41,7 +35,6 @@ from trayadvisor.model import (
     ObservationPoint,
     Tray,
 )
-from trayadvisor.layoutfile.checks import layout_problems, overlapping_pairs
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -402,6 +395,8 @@ def _as_dict(lay: Layout) -> dict:
             row = {k: v for k, v in dataclasses.asdict(item).items() if v is not None}
             if kind == "circuit":
                 row["harmonics"] = {str(h): f for h, f in row["harmonics"]}
+            if kind == "limit":  # docs/file-format.md: the value is written as the key `ut`
+                row["ut"] = row.pop("value_uT")
             rows.append(row)
         doc[kind] = rows
     return doc

@@ -20,10 +20,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.layoutfile.reader import (
     LayoutError,
     LineMap,
-    dumps_layout,
     parse_layout,
     read_layout,
     validate_layout,

@@ -52,7 +52,7 @@ REFERENCE = [
 
 @pytest.mark.parametrize("name,f,ut,rtol", REFERENCE, ids=[f"{r[0]}@{r[1]:g}" for r in REFERENCE])
 def test_library_value_matches_its_document(name, f, ut, rtol):
-    assert find(name).value_ut(f) == pytest.approx(ut, rel=rtol)
+    assert find(name).value_uT(f) == pytest.approx(ut, rel=rtol)
 
 
 def test_every_library_entry_has_a_reference_value_here():
@@ -62,12 +62,13 @@ def test_every_library_entry_has_a_reference_value_here():
 def test_flux_density_agrees_with_the_documents_field_strength():
     # Source: ICNIRP 2010 Tables 3 and 4 give H = 160 A/m (public) and 800 A/m (occupational)
     # beside B; the documents round B, so agreement is to 0.6 %.
-    assert 160 * UT_PER_A_PER_M == pytest.approx(find("ICNIRP 2010 general public").ut, rel=6e-3)
-    assert 800 * UT_PER_A_PER_M == pytest.approx(find("ICNIRP 2010 occupational").ut, rel=6e-3)
+    level = {lim.name: lim.level_uT for lim in LIBRARY}
+    assert 160 * UT_PER_A_PER_M == pytest.approx(level["ICNIRP 2010 general public"], rel=6e-3)
+    assert 800 * UT_PER_A_PER_M == pytest.approx(level["ICNIRP 2010 occupational"], rel=6e-3)
     # Source: IEEE C95.1-2019 Table 2 (the successor of C95.6), head and trunk 719 A/m and
     # 2160 A/m, from a third-party copy (from memory as to C95.6 itself).
-    assert 719 * UT_PER_A_PER_M == pytest.approx(find("IEEE C95.6 general public").ut, rel=1e-3)
-    assert 2160 * UT_PER_A_PER_M == pytest.approx(find("IEEE C95.6 controlled").ut, rel=2e-3)
+    assert 719 * UT_PER_A_PER_M == pytest.approx(level["IEEE C95.6 general public"], rel=1e-3)
+    assert 2160 * UT_PER_A_PER_M == pytest.approx(level["IEEE C95.6 controlled"], rel=2e-3)
 
 
 def test_mu0_conversion():
@@ -90,7 +91,7 @@ def test_recalled_values_are_flagged_and_sources_named():
 def test_frequency_range_is_enforced():
     assert not find("ICNIRP 2010 occupational").valid_at(400.0)  # Table 3 changes at 300 Hz
     with pytest.raises(ValueError, match="outside"):
-        find("ICNIRP 2010 occupational").value_ut(400.0)
+        find("ICNIRP 2010 occupational").value_uT(400.0)
     at_400 = {lim.name for lim, _ in library_at(400.0)}
     assert at_400 == {"ICNIRP 2010 general public", "IEEE C95.6 general public",
                       "IEEE C95.6 controlled"}
@@ -101,7 +102,7 @@ def test_all_limits_is_library_at_layout_frequency_plus_layout_limits():
     layout = parse_layout(DEMO.read_text(encoding="utf-8"), str(DEMO))
     lims = all_limits(layout)
     assert [x.name for x in lims] == [lim.name for lim in LIBRARY] + ["quiet-room target"]
-    assert lims[-1].ut == 1.0 and lims[-1].source.startswith("project brief")
+    assert lims[-1].value_uT == 1.0 and lims[-1].source.startswith("project brief")
     recalled = [x for x in lims if "[recalled, not checked]" in x.source]
     assert {x.name for x in recalled} == {lim.name for lim in LIBRARY if not lim.checked}
     at_400 = all_limits(layout, frequency_hz=400.0)

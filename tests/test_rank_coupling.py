@@ -9,10 +9,9 @@ import pytest
 
 from trayadvisor.analysis.summary import field_summary
 from trayadvisor.cli.main import main
-from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.coupling import coupling_summary
 from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.ranking.rank import rank_layout
-from trayadvisor.coupling.sharing import sharing_overrides
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
@@ -32,12 +31,12 @@ def test_sharing_scores_equal_field_with_solved_currents(capsys):
     lay = read_layout(DEMO)
     data = rank_json(capsys, str(DEMO), "--top", "3", "--sharing")
     assert data["certified"] is False  # the search bound holds for equal shares only
-    base = field_summary(lay, 500.0, overrides=sharing_overrides(lay)).max_resultant_uT
+    base = field_summary(lay, distance_mm=500.0, sharing=True).max_resultant_uT
     assert data["baseline_uT"] == pytest.approx(base, rel=1e-9)
     for opt in data["options"]:
         moved = applied(lay, opt)
         # the same figure `field --sharing` reports for that arrangement
-        want = field_summary(moved, 500.0, overrides=sharing_overrides(moved))
+        want = field_summary(moved, distance_mm=500.0, sharing=True)
         assert opt["max_resultant_uT"] == pytest.approx(want.max_resultant_uT, rel=1e-6)
 
 

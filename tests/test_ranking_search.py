@@ -9,16 +9,16 @@ import pytest
 
 from trayadvisor.analysis.summary import envelope_m
 from trayadvisor.engine.contour import stray_field
+from trayadvisor.engine.currents import MM, layout_sources
 from trayadvisor.engine.field import phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.ranking.build import build_space
-from trayadvisor.ranking.tables import Pool, Tables
 from trayadvisor.ranking.exhaustive import exhaustive
 from trayadvisor.ranking.local_search import LocalSearch, run_local
 from trayadvisor.ranking.objective import make_objective
+from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.ranking.sets import paired_subproblems, pairings
-from trayadvisor.engine.currents import MM, sources
+from trayadvisor.ranking.tables import Pool, Tables
 
 
 def two_layers(n_per_layer: int = 4, d: float = 30.0) -> Layout:
@@ -39,7 +39,7 @@ def two_layers(n_per_layer: int = 4, d: float = 30.0) -> Layout:
 
 
 def setup(lay: Layout):
-    src = sources(lay)
+    src = layout_sources(lay)
     obj = make_objective(lay, 400.0, None, src)
     space = build_space(lay)
     return src, obj, space, Tables(space, src, obj.search_m)
@@ -159,7 +159,7 @@ def stacked(sets_per_row: int = 2, layers: int = 2, d: float = 30.0) -> Layout:
 
 
 def block_setup(lay: Layout):
-    src = sources(lay)
+    src = layout_sources(lay)
     obj = make_objective(lay, 400.0, None, src)
     space = build_space(lay, bundles=True, rows=True)
     return space, Tables(space, src, obj.search_m)

@@ -8,13 +8,15 @@ import math
 import numpy as np
 import pytest
 
-from trayadvisor.analysis.summary import stray_uT
+from trayadvisor.engine import stray_uT
+from trayadvisor.layoutfile.checks import layout_problems
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking.build import build_space, find_mirror, phase_symmetries
+from trayadvisor.ranking.build import build_space
 from trayadvisor.ranking.enumeration import blocks, multiset_sequences
+from trayadvisor.ranking.heuristic import find_mirror
+from trayadvisor.ranking.rank import phase_symmetries
 from trayadvisor.ranking.slots import RankError, slot_grid
 from trayadvisor.ranking.space import multinomial
-from trayadvisor.layoutfile.checks import layout_problems
 
 
 def flat_sets(n_sets: int, d: float = 30.0, width: float = 600.0, pitch: float | None = None,
@@ -153,7 +155,7 @@ def test_slots_avoid_fixed_conductors_and_options_validate():
 
 def test_slot_errors_are_clean():
     lay = flat_sets(2)
-    with pytest.raises(RankError, match="--slots diagonal: unknown laying rule"):
+    with pytest.raises(RankError, match="slots = 'diagonal': unknown laying rule"):
         build_space(lay, slots="diagonal")
     narrow = Layout(trays=(Tray("T", 0, 0, 100, 100),), circuits=lay.circuits,
                     conductors=tuple(c.moved(15 + 30 * (i % 3), 15 + 30 * (i // 3))

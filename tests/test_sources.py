@@ -7,9 +7,9 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
+from trayadvisor.engine.currents import MM, conductor_currents, layout_sources
 from trayadvisor.engine.field import far_field, phasor_field, resultant_rms
 from trayadvisor.model import Circuit, Conductor, Layout
-from trayadvisor.engine.currents import MM, conductor_currents, sources
 
 
 def cond(name, circuit, phase, x, y=20.0, d=30.0, **kw):
@@ -40,7 +40,7 @@ def by_name(src, order):
 def test_fundamental_phase_angles():
     # Source: common practice (IEC phase sequence L1-L2-L3; L2 lags L1 by 120°): L1 0°,
     # L2 −120°, L3 +120° (SPEC conventions).
-    src = sources(ac3_layout(current=400.0))
+    src = layout_sources(ac3_layout(current=400.0))
     i = by_name(src, 1)
     assert i["L10"] == pytest.approx(400.0)
     assert i["L20"] == pytest.approx(400.0 * np.exp(-2j * np.pi / 3))
@@ -51,7 +51,7 @@ def test_fundamental_phase_angles():
 
 
 def test_circuit_angle_shifts_every_phase():
-    src = sources(ac3_layout(current=100.0, angle=30.0))
+    src = layout_sources(ac3_layout(current=100.0, angle=30.0))
     i = by_name(src, 1)
     assert np.angle(i["L10"], deg=True) == pytest.approx(30.0)
     assert np.angle(i["L20"], deg=True) == pytest.approx(-90.0)
@@ -65,7 +65,7 @@ def test_harmonic_sequences_and_triplen_neutral():
     # A balanced ac3 neutral carries 3 × the phase triplen current and no fundamental.
     # Source: common practice.
     lay = ac3_layout(current=200.0, harmonics=((3, 0.10), (5, 0.20), (7, 0.05), (9, 0.02)))
-    src = sources(lay)
+    src = layout_sources(lay)
     assert list(src.orders) == [1, 3, 5, 7, 9]
     np.testing.assert_allclose(src.frequency_hz, [50.0, 150.0, 250.0, 350.0, 450.0])
     for h, frac in ((3, 0.10), (9, 0.02)):
@@ -87,11 +87,11 @@ def test_harmonic_sequences_and_triplen_neutral():
 
 def test_parallel_sets_share_equally_and_explicit_override():
     lay = ac3_layout(current=630.0, sets=2, neutral=False)
-    i = by_name(sources(lay), 1)
+    i = by_name(layout_sources(lay), 1)
     assert i["L10"] == pytest.approx(315.0) and i["L11"] == pytest.approx(315.0)
     cons = list(lay.conductors)
     cons[0] = replace(cons[0], current_a=400.0, angle_deg=-5.0)
-    i = by_name(sources(lay.with_conductors(cons)), 1)
+    i = by_name(layout_sources(lay.with_conductors(cons)), 1)
     assert i["L10"] == pytest.approx(400.0 * np.exp(-1j * np.deg2rad(5.0)))
     assert i["L11"] == pytest.approx(315.0)
 
@@ -101,7 +101,7 @@ def test_dc_sign_convention():
     circ = Circuit("B1", "dc", current_a=200.0)
     lay = Layout(frequency_hz=60.0, circuits=(circ,),
                  conductors=(cond("p", "B1", "+", 20.0), cond("m", "B1", "-", 60.0)))
-    src = sources(lay)
+    src = layout_sources(lay)
     assert list(src.orders) == [0]
     assert src.frequency_hz[0] == 0.0
     np.testing.assert_array_equal(src.currents[0], [200.0, -200.0])
@@ -114,7 +114,7 @@ def test_ac1_neutral_returns_line_current():
     circ = Circuit("S1", "ac1", current_a=63.0, harmonics=((3, 0.3),))
     lay = Layout(circuits=(circ,),
                  conductors=(cond("L", "S1", "L", 20.0), cond("N", "S1", "N", 60.0)))
-    src = sources(lay)
+    src = layout_sources(lay)
     for h in (1, 3):
         i = by_name(src, h)
         assert i["N"] == pytest.approx(-i["L"])
@@ -124,7 +124,7 @@ def test_ac1_neutral_returns_line_current():
 def test_overrides_replace_shares_and_neutral_follows():
     lay = ac3_layout(current=300.0, sets=2)
     solved = {"L10": 180.0 + 5j, "L11": 120.0 - 5j}
-    i = by_name(sources(lay, overrides={1: solved}), 1)
+    i = by_name(layout_sources(lay, overrides={1: solved}), 1)
     assert i["L10"] == solved["L10"] and i["L11"] == solved["L11"]
     phases = [i[k] for k in ("L10", "L11", "L20", "L21", "L30", "L31")]
     assert i["N"] == pytest.approx(-sum(phases))  # the neutral returns the new sum
@@ -136,9 +136,9 @@ def test_overridden_neutral_leaves_the_rest_to_the_other_neutral():
             cond("L3", "F1", "L3", 90.0), cond("Na", "F1", "N", 125.0),
             cond("Nb", "F1", "N", 160.0))
     lay = Layout(circuits=(circ,), conductors=cons)
-    i3 = by_name(sources(lay), 3)
+    i3 = by_name(layout_sources(lay), 3)
     assert i3["Na"] == pytest.approx(-90.0) and i3["Nb"] == pytest.approx(-90.0)
-    i3 = by_name(sources(lay, overrides={3: {"Na": -120.0}}), 3)
+    i3 = by_name(layout_sources(lay, overrides={3: {"Na": -120.0}}), 3)
     assert i3["Na"] == pytest.approx(-120.0)
     assert i3["Na"] + i3["Nb"] == pytest.approx(-180.0)  # KCL still holds
 
@@ -148,7 +148,7 @@ def test_dc_overrides_apply():
     lay = Layout(circuits=(circ,), conductors=(
         cond("p1", "B1", "+", 20.0), cond("p2", "B1", "+", 60.0),
         cond("m", "B1", "-", 100.0)))
-    src = sources(lay, overrides={0: {"p1": 120.0, "p2": 80.0}})
+    src = layout_sources(lay, overrides={0: {"p1": 120.0, "p2": 80.0}})
     np.testing.assert_array_equal(src.currents[0], [120.0, 80.0, -200.0])
 
 
@@ -156,14 +156,14 @@ def test_signal_and_pe_carry_nothing_unless_given():
     lay = Layout(circuits=(Circuit("C7", "signal"),),
                  conductors=(cond("a", "C7", "a", 20.0, d=5.0),
                              cond("b", "C7", "b", 30.0, d=5.0, current_a=0.01)))
-    src = sources(lay)
+    src = layout_sources(lay)
     assert src.currents[0, 0] == 0.0 and src.currents[0, 1] == pytest.approx(0.01)
-    empty = sources(Layout())
+    empty = layout_sources(Layout())
     assert empty.currents.shape == (1, 0) and empty.xy_m.shape == (0, 2)
 
 
 def test_units_and_geometry():
-    src = sources(ac3_layout())
+    src = layout_sources(ac3_layout())
     assert src.xy_m[0] == pytest.approx([20.0 * MM, 20.0 * MM])
     assert src.radius_m[0] == pytest.approx(15.0 * MM)
     assert conductor_currents(ac3_layout()).keys() == {1}
@@ -173,7 +173,7 @@ def test_neutral_harmonic_field_through_the_engine():
     # With harmonics the resultant is the root-sum-square over the components (IEC 61786-1),
     # and the field of the triplen component alone is that of the N return loop.
     lay = ac3_layout(current=200.0, harmonics=((3, 0.1),))
-    src = sources(lay)
+    src = layout_sources(lay)
     pts = np.array([[0.1, 1.0], [2.0, -0.5]])
     b = phasor_field(src.xy_m, src.radius_m, src.currents, pts)
     per = [resultant_rms(phasor_field(src.xy_m, src.radius_m, row, pts)) for row in src.currents]

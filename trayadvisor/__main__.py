@@ -1,3 +1,3 @@
-from trayadvisor.cli.main import main
+from trayadvisor.launcher import main
 
 raise SystemExit(main())

@@ -5,11 +5,18 @@ a ``functools.partial`` of one): ``row`` holds the summary-CSV columns of that f
 its single-file JSON object. Each pool worker reads its file itself, so a bad file becomes
 an error result carrying the reader's one-line ``FILE:LINE: message`` and the other files
 carry on.
+
+The jobs of ``field`` and ``rank`` (:data:`JOBS`) make the same core call a single run makes
+(:func:`trayadvisor.analysis.field_summary`, :func:`trayadvisor.ranking.rank_layout`) with
+the same keyword options, so a batch row holds the same numbers as a single run of that file.
 """
 
 from __future__ import annotations
 
 import contextlib
+import csv
+import io
+import math
 import multiprocessing
 import os
 import time
@@ -19,8 +26,10 @@ from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from trayadvisor.layoutfile.reader import LayoutError, read_layout
+from trayadvisor.analysis import field_summary
+from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
+from trayadvisor.ranking import rank_layout
 
 Job = Callable[[Layout], tuple[dict, dict]]
 Progress = Callable[[int, int, "FileResult"], None]
@@ -160,3 +169,65 @@ def _run_pool(job: Job, files: list[str], results: list[FileResult | None], done
         except BaseException:
             pool.shutdown(wait=False, cancel_futures=True)
             raise
+
+
+# -- the jobs of field and rank, and the summary CSV --------------------------------------
+FIELD_COLUMNS: tuple[str, ...] = (
+    "file", "status", "error", "distance_mm", "max_resultant_uT", "max_at_x_mm", "max_at_y_mm",
+    "far_field_order", "far_field_uT_at_1m", "points", "limits", "limits_failed")
+RANK_COLUMNS: tuple[str, ...] = (
+    "file", "status", "error", "method", "evaluated", "baseline_uT", "best_uT", "reduction_pct")
+
+
+def field_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
+    """One file of ``field``: the summary row and the ``field --json`` object.
+
+    ``opts`` are the keyword arguments of :func:`trayadvisor.analysis.field_summary`.
+    """
+    data = field_summary(layout, **opts).to_json()
+    lims = data.get("limits", [])
+    row = {"distance_mm": data["distance_mm"], "max_resultant_uT": data["max_resultant_uT"],
+           "max_at_x_mm": data["max_at_mm"][0], "max_at_y_mm": data["max_at_mm"][1],
+           "far_field_order": data["far_field_order"],
+           "far_field_uT_at_1m": data["far_field_uT_at_1m"], "points": len(data["points"]),
+           "limits": len(lims), "limits_failed": sum(1 for x in lims if not x["pass"])}
+    return row, data
+
+
+def rank_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
+    """One file of ``rank``: the summary row and the ``rank --json`` object.
+
+    ``opts`` are the keyword arguments of :func:`trayadvisor.ranking.rank_layout`.
+    """
+    data = rank_layout(layout, **opts).to_json()
+    best = data["options"][0] if data["options"] else {}
+    row = {"method": data["method"], "evaluated": data["evaluated"],
+           "baseline_uT": data["baseline_uT"], "best_uT": best.get("max_resultant_uT"),
+           "reduction_pct": best.get("reduction_pct")}
+    return row, data
+
+
+#: Batch-capable commands: their job and their summary columns.
+JOBS: dict[str, tuple[Callable[..., tuple[dict, dict]], tuple[str, ...]]] = {
+    "field": (field_job, FIELD_COLUMNS),
+    "rank": (rank_job, RANK_COLUMNS),
+}
+
+
+def summary_csv(results: Sequence[FileResult], columns: tuple[str, ...]) -> str:
+    """The summary CSV: a header, then one row per file (floats in full precision)."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(columns)
+    for r in results:
+        values = {"file": r.file, "status": "ok" if r.ok else "error", "error": r.error,
+                  **r.row}
+        cells = []
+        for col in columns:
+            v = values.get(col)
+            if v is None or (isinstance(v, float) and not math.isfinite(v)):
+                cells.append("")
+            else:
+                cells.append(repr(v) if isinstance(v, float) else str(v))
+        w.writerow(cells)
+    return buf.getvalue()

@@ -20,11 +20,11 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from scipy.constants import mu_0
-
+from trayadvisor.engine.units import UT_PER_A_PER_M
 from trayadvisor.model import Layout, Limit
 
-UT_PER_A_PER_M: float = mu_0 * 1e6  #: µT per A/m in air (B = μ0 H)
+__all__ = ["LIBRARY", "UT_PER_A_PER_M", "LibraryLimit", "PerHz", "all_limits", "find",
+           "library_at", "library_source"]
 
 
 @dataclass(frozen=True)
@@ -49,7 +49,7 @@ class LibraryLimit:
     ----------
     name : str
         Short unique name, shown in tables and plots.
-    ut : float or callable
+    level_uT : float or callable
         The level in µT, or a function of frequency (Hz) returning µT.
     f_min_hz, f_max_hz : float
         Frequency range over which ``ut`` is the document's level (inclusive).
@@ -62,7 +62,7 @@ class LibraryLimit:
     """
 
     name: str
-    ut: float | Callable[[float], float]
+    level_uT: float | Callable[[float], float]
     f_min_hz: float
     f_max_hz: float
     source: str
@@ -72,16 +72,17 @@ class LibraryLimit:
     def valid_at(self, frequency_hz: float) -> bool:
         return self.f_min_hz <= frequency_hz <= self.f_max_hz
 
-    def value_ut(self, frequency_hz: float) -> float:
+    def value_uT(self, frequency_hz: float) -> float:
         """The level at ``frequency_hz`` (µT); ValueError outside the entry's range."""
         if not self.valid_at(frequency_hz):
             raise ValueError(f"{self.name}: {frequency_hz:g} Hz is outside "
                              f"{self.f_min_hz:g}-{self.f_max_hz:g} Hz")
-        return float(self.ut(frequency_hz)) if callable(self.ut) else float(self.ut)
+        level = self.level_uT
+        return float(level(frequency_hz)) if callable(level) else float(level)
 
     def formula(self) -> str:
         """The level as written in the library: '200' or '3.0e5/f'."""
-        return str(self.ut) if callable(self.ut) else f"{self.ut:.4g}"
+        return str(self.level_uT) if callable(self.level_uT) else f"{self.level_uT:.4g}"
 
 
 _ICNIRP = "ICNIRP 2010, Health Phys. 99(6):818-836"
@@ -133,7 +134,7 @@ LIBRARY: tuple[LibraryLimit, ...] = (
 
 def library_at(frequency_hz: float) -> tuple[tuple[LibraryLimit, float], ...]:
     """Library entries valid at ``frequency_hz`` with their value there (µT)."""
-    return tuple((lim, lim.value_ut(frequency_hz)) for lim in LIBRARY
+    return tuple((lim, lim.value_uT(frequency_hz)) for lim in LIBRARY
                  if lim.valid_at(frequency_hz))
 
 

@@ -28,7 +28,7 @@ REQUIRED_PHASES: dict[str, tuple[str, ...]] = {
     "signal": ("a", "b"),
 }
 
-#: Fundamental angle of each phase label, degrees (SPEC conventions).
+#: Fundamental angle of each phase label, degrees (docs/conventions.md).
 PHASE_ANGLE_DEG: dict[str, float] = {
     "L1": 0.0,
     "L2": -120.0,
@@ -127,10 +127,13 @@ class ObservationLine:
 
 @dataclass(frozen=True)
 class Limit:
-    """A named field limit in µT (user-defined in the layout, or from the library)."""
+    """A named field limit in µT (user-defined in the layout, or from the library).
+
+    The layout file writes the value as the key ``ut``.
+    """
 
     name: str
-    ut: float
+    value_uT: float
     source: str = "layout file"
 
 
@@ -179,7 +182,7 @@ class Layout:
     # -- geometry -------------------------------------------------------------------------
     def envelope_mm(self) -> tuple[float, float, float, float]:
         """Bounding rectangle (xmin, ymin, xmax, ymax) of all trays, or of the conductors'
-        outer circles when the layout has no tray (SPEC: the tray envelope)."""
+        outer circles when the layout has no tray (the tray envelope, docs/conventions.md)."""
         if self.trays:
             b = [t.bounds for t in self.trays]
         elif self.conductors:

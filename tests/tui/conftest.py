@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from trayadvisor.cli.common import demo_path
+from trayadvisor.layoutfile import demo_path
 
 
 @pytest.fixture(autouse=True)

@@ -6,15 +6,16 @@ import math
 
 from tuihelpers import SIZE, canvas_text, settle, text_of
 
-from trayadvisor.analysis.summary import field_summary, stray_uT
-from trayadvisor.cli.common import fmt_ut
+from trayadvisor.analysis.summary import field_summary
+from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.output import fmt_uT
 from trayadvisor.tui import make_app
+from trayadvisor.tui.logic.settings import TYPED_LIMIT
 from trayadvisor.tui.screens.field import FieldScreen
 from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm
 from trayadvisor.tui.screens.help import CAUTIONS, HelpScreen
 from trayadvisor.tui.screens.section import SectionScreen
-from trayadvisor.tui.logic.settings import TYPED_LIMIT
 from trayadvisor.tui.widgets.canvas import SectionCanvas
 
 
@@ -32,7 +33,7 @@ async def test_demo_opens_with_drawing_list_and_readout() -> None:
             app.document.layout.circuits) + len(app.document.layout.trays)
         d = app.settings.distance_mm
         want = stray_uT(app.document.layout, d)
-        assert fmt_ut(want) in text_of(app, "#readout")
+        assert fmt_uT(want) in text_of(app, "#readout")
         assert "layout valid" in text_of(app, "#status") or "Caution" in text_of(app, "#status")
 
 
@@ -52,9 +53,9 @@ async def test_moving_a_conductor_updates_the_readout_to_the_engine_value() -> N
         d = app.settings.distance_mm
         # The figure on show is what the engine gives for the app's current model.
         assert app.summary.max_resultant_uT == stray_uT(lay, d)
-        assert app.summary.max_at_mm == field_summary(lay, d).max_at_mm
+        assert app.summary.max_at_mm == field_summary(lay, distance_mm=d).max_at_mm
         assert app.summary.max_resultant_uT != before
-        assert fmt_ut(stray_uT(lay, d)) in text_of(app, "#readout")
+        assert fmt_uT(stray_uT(lay, d)) in text_of(app, "#readout")
         assert not app.results_pending()
         # shift+arrow moves by one diameter
         await pilot.press("shift+up")
@@ -75,12 +76,13 @@ async def test_field_view_shows_map_contour_and_readouts_in_step() -> None:
         await settle(app, pilot)
         assert view.map_current                             # map redone for the new model
         lay, d = app.document.layout, app.settings.distance_mm
-        s = field_summary(lay, d)
+        s = field_summary(lay, distance_mm=d)
         shown = text_of(app, "#readout")
-        assert fmt_ut(s.max_resultant_uT) in shown
+        assert fmt_uT(s.max_resultant_uT) in shown
         assert f"x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f}" in shown
         lim = app.chosen_limit()
-        fig = field_summary(lay, d, limits=[(lim.name, lim.ut, lim.source)]).limits[-1]
+        fig = field_summary(lay, distance_mm=d,
+                            limits=[(lim.name, lim.value_uT, lim.source)]).limits[-1]
         assert ("PASS" if fig.passes else "FAIL") in shown
         assert app.figure_for(lim).clearance_mm == fig.clearance_mm
         await pilot.press("m")                              # shade map: glyphs and digits
@@ -162,10 +164,10 @@ async def test_help_lists_keys_and_cautions() -> None:
 
 
 async def test_settings_change_distance_and_typed_limit() -> None:
-    app = make_app(limit_ut=0.5)
+    app = make_app(limit_uT=0.5)
     async with app.run_test(size=SIZE) as pilot:
         await settle(app, pilot)
-        assert app.chosen_limit().name == TYPED_LIMIT and app.chosen_limit().ut == 0.5
+        assert app.chosen_limit().name == TYPED_LIMIT and app.chosen_limit().value_uT == 0.5
         await pilot.press("d")
         field = app.screen.query_one("#distance")
         field.value = "800"

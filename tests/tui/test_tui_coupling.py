@@ -11,7 +11,7 @@ from pathlib import Path
 from textual.widgets import Input
 from tuihelpers import SIZE, settle, text_of
 
-from trayadvisor.coupling.victims import coupling_summary
+from trayadvisor.coupling import coupling_summary
 from trayadvisor.tui import make_app
 from trayadvisor.tui.logic.couplingtext import WORST_IMBALANCE, WORST_SHARE, f1, g3
 from trayadvisor.tui.screens.coupling import CouplingScreen

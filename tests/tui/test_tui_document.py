@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import subprocess
-import sys
 from dataclasses import replace
 from pathlib import Path
 
@@ -11,7 +9,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from trayadvisor.layoutfile.reader import LayoutError, layout_problems, read_layout
+from trayadvisor.layoutfile import layout_problems
+from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.model import Circuit, Conductor, Tray
 from trayadvisor.tui.logic import edits
 from trayadvisor.tui.logic.document import Document
@@ -151,7 +150,7 @@ def test_parse_harmonics() -> None:
 @given(st.lists(st.tuples(st.integers(0, 15), st.sampled_from([(5, 0), (-5, 0), (0, 5)])),
                 min_size=1, max_size=25))
 def test_undo_all_then_redo_all_round_trips(steps) -> None:
-    from trayadvisor.cli.common import demo_path
+    from trayadvisor.layoutfile import demo_path
 
     doc = Document(read_layout(demo_path()))
     first = doc.layout
@@ -165,16 +164,3 @@ def test_undo_all_then_redo_all_round_trips(steps) -> None:
     while doc.redo() is not None:
         pass
     assert doc.layout == last
-
-
-def test_plain_modules_do_not_import_textual() -> None:
-    """The editor's logic stays testable and reusable without the UI toolkit."""
-    mods = ["document", "edits", "viewport", "scene", "mapscale", "settings", "compute",
-            "keymap", "ranktable", "couplingtext"]
-    code = ("import importlib, sys\n"
-            f"for m in {mods!r}:\n"
-            "    importlib.import_module('trayadvisor.tui.logic.' + m)\n"
-            "print(','.join(sorted(k for k in sys.modules if k.split('.')[0] == 'textual')))\n")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True)
-    assert out.stdout.strip() == ""

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 from tuihelpers import SIZE, settle, text_of, type_into
 
-from trayadvisor.cli.main import main
+from trayadvisor.launcher import main
 from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.tui import make_app
 from trayadvisor.tui.logic.document import Document

@@ -15,11 +15,12 @@ from textual import events
 from textual.widgets import DataTable, Input
 from tuihelpers import SIZE, settle, text_of
 
-from trayadvisor.analysis.summary import stray_uT
-from trayadvisor.cli.common import fmt_ut
-from trayadvisor.layoutfile.reader import write_layout
+from trayadvisor.engine import stray_uT
+from trayadvisor.layoutfile import write_layout
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
-from trayadvisor.ranking.rank import apply_option, rank_layout
+from trayadvisor.output import fmt_uT
+from trayadvisor.ranking import apply_option
+from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.tui import make_app
 from trayadvisor.tui.screens.dialogs import ConfirmDialog, MessageDialog, PathDialog
 from trayadvisor.tui.screens.help import HelpScreen
@@ -57,7 +58,7 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         assert r.method in info and f"{r.evaluated:,}" in info
         table = screen.query_one("#options", DataTable)
         assert table.row_count == 5
-        assert str(table.get_row_at(0)[1]) == fmt_ut(r.options[0].max_resultant_uT)
+        assert str(table.get_row_at(0)[1]) == fmt_uT(r.options[0].max_resultant_uT)
 
         # The highlighted option is previewed; the document is untouched until applied.
         await pilot.press("down")
@@ -74,13 +75,13 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         assert shown == pytest.approx(opt.max_resultant_uT, rel=1e-6)
         # Reference: trayadvisor.analysis.summary.stray_uT, what `trayadvisor field` reports.
         assert shown == pytest.approx(stray_uT(app.document.layout, 400.0), rel=1e-6)
-        assert f"{fmt_ut(opt.max_resultant_uT)} µT" in text_of(app, "#readout")
+        assert f"{fmt_uT(opt.max_resultant_uT)} µT" in text_of(app, "#readout")
 
         await pilot.press("u")                              # one undo restores it all
         await settle(app, pilot)
         assert app.document.layout == original and not app.document.dirty
         assert app.summary.max_resultant_uT == before
-        assert f"{fmt_ut(before)} µT" in text_of(app, "#readout")
+        assert f"{fmt_uT(before)} µT" in text_of(app, "#readout")
 
 
 def _busy_layout() -> Layout:

@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from trayadvisor.analysis.summary import field_grid_uT
+from trayadvisor.engine import field_grid_uT
 from trayadvisor.model import Circuit, Conductor, Layout, Tray
 from trayadvisor.tui.logic.mapscale import SHADES, STEPS, MapScale, iso_digits, palette
 from trayadvisor.tui.logic.scene import FieldMap, build_scene, circuit_tags

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.analysis.summary import field_summary
-from trayadvisor.cli.common import demo_path
+from trayadvisor.layoutfile import demo_path
 from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.tui.logic.compute import Failed, LimitDone, SummaryDone, run_analysis
 from trayadvisor.tui.logic.keymap import KeymapError, load_keymap
@@ -23,7 +23,7 @@ DEMO = read_layout(demo_path())
 
 
 def test_limits_offered_and_the_default_choice() -> None:
-    limits = available_limits(DEMO, typed_ut=0.4)
+    limits = available_limits(DEMO, typed_uT=0.4)
     names = [lim.name for lim in limits]
     assert "quiet-room target" in names and names[-1] == TYPED_LIMIT
     assert chosen_limit(ViewSettings(), limits, DEMO).name == TYPED_LIMIT
@@ -34,7 +34,7 @@ def test_limits_offered_and_the_default_choice() -> None:
 
 
 def test_settings_reject_bad_values() -> None:
-    for bad in ({"distance_mm": -1.0}, {"fine_step_mm": 0.0}, {"typed_limit_ut": float("nan")},
+    for bad in ({"distance_mm": -1.0}, {"fine_step_mm": 0.0}, {"typed_limit_uT": float("nan")},
                 {"map_style": "rainbow"}):
         with pytest.raises(ValueError):
             ViewSettings(**bad)
@@ -45,7 +45,7 @@ def test_staged_results_equal_the_cli_figures() -> None:
     lim = DEMO.limits[0]
     run_analysis(DEMO, 500.0, [lim], out.append)
     assert isinstance(out[0], SummaryDone) and isinstance(out[1], LimitDone)
-    cli = field_summary(DEMO, 500.0)                          # what `trayadvisor field` shows
+    cli = field_summary(DEMO, distance_mm=500.0)  # what `trayadvisor field` shows
     assert out[0].summary.max_resultant_uT == cli.max_resultant_uT
     assert out[0].summary.far_field_order == cli.far_field_order
     want = next(f for f in cli.limits if f.name == lim.name)

@@ -13,12 +13,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from trayadvisor.cli.common import demo_path
-from trayadvisor.coupling.victims import coupling_summary
-from trayadvisor.output.exports import result_csv
+from trayadvisor.coupling import coupling_summary
+from trayadvisor.layoutfile import demo_path
 from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.model import Conductor
-from trayadvisor.ranking.rank import apply_option, rank_layout
+from trayadvisor.output.exports import result_csv
+from trayadvisor.ranking import apply_option
+from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.tui.logic.couplingtext import (
     WORST_EMF,
     WORST_IMBALANCE,

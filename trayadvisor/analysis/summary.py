@@ -1,51 +1,45 @@
-"""The figures a user sees for one layout, in one call shared by the CLI, the TUI and reports.
+"""The field figures of one layout, in one call shared by the CLI, the TUI, batches and reports.
 
-Millimetres and µT at this boundary; the engines below work in metres and tesla.
+:func:`field_summary` takes the user's options as keyword arguments (distance d, extra
+points, limits, which currents flow) and returns every figure ``field`` prints, so the front
+ends cannot disagree. Millimetres and µT at this boundary.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.contour import clearance, stray_field
-from trayadvisor.engine.field import ellipse_major_rms, far_field, phasor_field, resultant_rms
-from trayadvisor.model import Layout, ObservationLine
-from trayadvisor.engine.currents import MM, Sources, sources
-
-UT = 1e6  #: µT per tesla
-DEFAULT_DISTANCE_MM = 500.0
-
-
-@dataclass(frozen=True)
-class PointFigure:
-    name: str
-    x_mm: float
-    y_mm: float
-    resultant_uT: float
-    max_uT: float
+from trayadvisor.coupling import sharing_overrides
+from trayadvisor.engine import (
+    DEFAULT_DISTANCE_MM,
+    LineFigure,
+    PointFigure,
+    SourceArrays,
+    clearance,
+    envelope_m,
+    far_field,
+    layout_sources,
+    line_figure,
+    point_figures,
+    stray_field,
+)
+from trayadvisor.engine.units import MM, UT
+from trayadvisor.model import Layout
 
 
 @dataclass(frozen=True)
 class LimitFigure:
+    """One limit's verdict at distance d and its clearance distance."""
+
     name: str
-    ut: float
+    limit_uT: float
     source: str
     clearance_mm: float  # inf when still above the limit at 100 m
     passes: bool  # stray field at the chosen distance is at or below the limit
-
-
-@dataclass(frozen=True)
-class LineFigure:
-    """Largest resultant field along a named observation line (sampled)."""
-
-    name: str
-    max_resultant_uT: float
-    max_at_mm: tuple[float, float]
-    max_uT: float  # largest ellipse-maximum along the line
 
 
 @dataclass(frozen=True)
@@ -57,7 +51,7 @@ class FieldSummary:
     max_at_mm: tuple[float, float]
     far_field_order: int | None
     far_field_uT_at_1m: float
-    points: tuple[PointFigure, ...]  # one per requested point (``--at``), in order
+    points: tuple[PointFigure, ...]  # one per requested point (``at``), in order
     named_points: tuple[PointFigure, ...]  # the layout's [[point]] entries
     lines: tuple[LineFigure, ...]  # the layout's [[line]] entries
     limits: tuple[LimitFigure, ...]
@@ -66,7 +60,7 @@ class FieldSummary:
     profile_xy_mm: np.ndarray
 
     def to_json(self) -> dict:
-        """The SPEC's ``field --json`` object (keys may be added, never renamed)."""
+        """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
         return {
             "distance_mm": self.distance_mm,
             "max_resultant_uT": self.max_resultant_uT,
@@ -89,7 +83,7 @@ class FieldSummary:
                 for ln in self.lines
             ],
             "limits": [
-                {"name": lim.name, "limit_uT": lim.ut, "source": lim.source,
+                {"name": lim.name, "limit_uT": lim.limit_uT, "source": lim.source,
                  "clearance_mm": None if math.isinf(lim.clearance_mm) else lim.clearance_mm,
                  "pass": lim.passes}
                 for lim in self.limits
@@ -97,69 +91,19 @@ class FieldSummary:
         }
 
 
-def envelope_m(layout: Layout) -> tuple[float, float, float, float]:
-    x0, y0, x1, y1 = layout.envelope_mm()
-    return (x0 * MM, y0 * MM, x1 * MM, y1 * MM)
-
-
-def field_at_points_uT(src: Sources, xy_mm: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(resultant, ellipse maximum) in µT at points given in mm, shape (k, 2)."""
-    b = phasor_field(src.xy_m, src.radius_m, src.currents, np.asarray(xy_mm, float) * MM)
-    return resultant_rms(b) * UT, ellipse_major_rms(b) * UT
-
-
-def field_grid_uT(layout: Layout, bounds_mm: tuple[float, float, float, float], nx: int,
-                  ny: int, src: Sources | None = None) -> np.ndarray:
-    """Resultant RMS field (µT) on an ny × nx grid of cell centres covering ``bounds_mm``."""
-    src = src or sources(layout)
-    x0, y0, x1, y1 = bounds_mm
-    xs = x0 + (np.arange(nx) + 0.5) * (x1 - x0) / nx
-    ys = y0 + (np.arange(ny) + 0.5) * (y1 - y0) / ny
-    gx, gy = np.meshgrid(xs, ys)
-    pts = np.column_stack([gx.ravel(), gy.ravel()])
-    res, _ = field_at_points_uT(src, pts)
-    return res.reshape(ny, nx)
-
-
-def _point_figures(src: Sources, place: list[tuple[str, float, float]]
-                   ) -> tuple[PointFigure, ...]:
-    if not place:
-        return ()
-    xy = np.array([[x, y] for _, x, y in place], dtype=float)
-    res, mx = field_at_points_uT(src, xy)
-    return tuple(PointFigure(nm, x, y, float(r), float(m))
-                 for (nm, x, y), r, m in zip(place, res, mx, strict=True))
-
-
-def line_points_mm(line: ObservationLine) -> np.ndarray:
-    """The sample points of an observation line, (samples, 2) in mm."""
-    t = np.linspace(0.0, 1.0, max(2, int(line.samples)))
-    return np.column_stack([line.x0_mm + t * (line.x1_mm - line.x0_mm),
-                            line.y0_mm + t * (line.y1_mm - line.y0_mm)])
-
-
-def line_figure(src: Sources, line: ObservationLine) -> LineFigure:
-    """Largest resultant and ellipse-maximum field over a line's sample points."""
-    xy = line_points_mm(line)
-    res, mx = field_at_points_uT(src, xy)
-    i = int(np.argmax(res))
-    return LineFigure(line.name, float(res[i]), (float(xy[i, 0]), float(xy[i, 1])),
-                      float(mx.max()))
-
-
-def stray_uT(layout: Layout, distance_mm: float, src: Sources | None = None) -> float:
-    """The stray field at distance d (µT): maximum resultant on the curve around the envelope."""
-    src = src or sources(layout)
-    sf = stray_field(src.xy_m, src.radius_m, src.currents, envelope_m(layout), distance_mm * MM)
-    return sf.max_T * UT
+def carried_sources(layout: Layout, *, sharing: bool = False) -> SourceArrays:
+    """The currents the figures use: equal shares, or the solved sharing between parallel
+    conductors (:func:`trayadvisor.coupling.sharing_overrides`) with ``sharing``."""
+    return layout_sources(layout, sharing_overrides(layout) if sharing else None)
 
 
 def field_summary(
     layout: Layout,
+    *,
     distance_mm: float = DEFAULT_DISTANCE_MM,
     at: Sequence[tuple[float, float]] = (),
     limits: Iterable[tuple[str, float, str]] = (),
-    overrides: Mapping[int, Mapping[str, complex]] | None = None,
+    sharing: bool = False,
 ) -> FieldSummary:
     """Every field figure of one layout.
 
@@ -167,28 +111,40 @@ def field_summary(
     ----------
     layout : Layout
     distance_mm : float
-        Distance outside the tray envelope for the stray field.
+        Distance d outside the tray envelope for the stray field, mm (>= 0).
     at : sequence of (x_mm, y_mm)
-        Extra points to report (``--at``); the layout's named points are always reported.
+        Extra points to report; the layout's named points are always reported.
     limits : iterable of (name, µT, source)
         Limits to test, in addition to the layout's own ``[[limit]]`` entries.
-    overrides : optional solved currents (see :func:`trayadvisor.engine.currents.sources`).
+    sharing : bool
+        Use the solved current sharing between parallel conductors instead of equal shares.
+
+    Returns
+    -------
+    FieldSummary
+
+    Raises
+    ------
+    ValueError
+        For a ``distance_mm`` that is negative or not finite (the message names it).
     """
-    src = sources(layout, overrides)
+    if not (math.isfinite(distance_mm) and distance_mm >= 0):
+        raise ValueError(f"distance_mm = {distance_mm!r}: must be zero or a positive number")
+    src = carried_sources(layout, sharing=sharing)
     env = envelope_m(layout)
-    d = distance_mm * MM
-    sf = stray_field(src.xy_m, src.radius_m, src.currents, env, d)
+    sf = stray_field(src.xy_m, src.radius_m, src.currents, env, distance_mm * MM)
     ff = far_field(src.xy_m, src.currents)
-    points = _point_figures(src, [(f"at{i + 1}", float(x), float(y))
-                                  for i, (x, y) in enumerate(at)])
-    named = _point_figures(src, [(p.name, p.x_mm, p.y_mm) for p in layout.points])
+    points = point_figures(src, [(f"at{i + 1}", float(x), float(y))
+                                 for i, (x, y) in enumerate(at)])
+    named = point_figures(src, [(p.name, p.x_mm, p.y_mm) for p in layout.points])
     lines = tuple(line_figure(src, ln) for ln in layout.lines)
     stray = sf.max_T * UT
-    lims = [(lim.name, lim.ut, lim.source) for lim in layout.limits] + list(limits)
+    lims = [(lim.name, lim.value_uT, lim.source) for lim in layout.limits] + list(limits)
     figures = []
-    for name, ut, source in lims:
-        clr = clearance(src.xy_m, src.radius_m, src.currents, env, ut / UT) / MM
-        figures.append(LimitFigure(name, float(ut), source, float(clr), stray <= ut))
+    for name, value_uT, source in lims:
+        clr = clearance(src.xy_m, src.radius_m, src.currents, env, value_uT / UT) / MM
+        figures.append(LimitFigure(name, float(value_uT), source, float(clr),
+                                   stray <= value_uT))
     return FieldSummary(
         distance_mm=float(distance_mm),
         max_resultant_uT=float(stray),

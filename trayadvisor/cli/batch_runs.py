@@ -1,98 +1,34 @@
-"""Batch ``field`` and ``rank``: several files or a folder, in parallel, one summary row each.
+"""Batch ``field`` and ``rank`` on the command line: progress, the summary, exit status.
 
 ``run_batch(kind, files, opts, args)`` is called by the ``field`` and ``rank`` commands with
-their validated options; the per-file work is the command's own ``compute(layout, **opts)``,
-so a batch row holds the same numbers as a single run of that file.
+their validated options; the per-file work is :data:`trayadvisor.batch.JOBS`, the same core
+call a single run makes, so a batch row holds the same numbers as a single run of that file.
 """
 
 from __future__ import annotations
 
 import argparse
-import csv
-import io
-import math
 import sys
-from collections.abc import Callable
 from functools import partial
 from pathlib import Path
 
-from trayadvisor.batch import FileResult, run_files
-from trayadvisor.cli.common import CAUTION_LINE, UserError, fmt_ut, print_json
-from trayadvisor.layoutfile.reader import atomic_write_text
-from trayadvisor.model import Layout
-from trayadvisor.output.wording import decay_text
-
-FIELD_COLUMNS: tuple[str, ...] = (
-    "file", "status", "error", "distance_mm", "max_resultant_uT", "max_at_x_mm", "max_at_y_mm",
-    "far_field_order", "far_field_uT_at_1m", "points", "limits", "limits_failed")
-RANK_COLUMNS: tuple[str, ...] = (
-    "file", "status", "error", "method", "evaluated", "baseline_uT", "best_uT", "reduction_pct")
-
-
-# -- per-file jobs (module level: they run in pool workers) ---------------------------------
-def field_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
-    """One file of ``field``: the summary row and the ``field --json`` object."""
-    from trayadvisor.cli import cmd_field
-
-    data = cmd_field.compute(layout, **opts).to_json()
-    lims = data.get("limits", [])
-    row = {"distance_mm": data["distance_mm"], "max_resultant_uT": data["max_resultant_uT"],
-           "max_at_x_mm": data["max_at_mm"][0], "max_at_y_mm": data["max_at_mm"][1],
-           "far_field_order": data["far_field_order"],
-           "far_field_uT_at_1m": data["far_field_uT_at_1m"], "points": len(data["points"]),
-           "limits": len(lims), "limits_failed": sum(1 for x in lims if not x["pass"])}
-    return row, data
-
-
-def rank_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
-    """One file of ``rank``: the summary row and the ``rank --json`` object."""
-    from trayadvisor.cli import cmd_rank
-
-    data = cmd_rank.compute(layout, **opts).to_json()
-    best = data["options"][0] if data["options"] else {}
-    row = {"method": data["method"], "evaluated": data["evaluated"],
-           "baseline_uT": data["baseline_uT"], "best_uT": best.get("max_resultant_uT"),
-           "reduction_pct": best.get("reduction_pct")}
-    return row, data
-
-
-JOBS: dict[str, tuple[Callable[..., tuple[dict, dict]], tuple[str, ...]]] = {
-    "field": (field_job, FIELD_COLUMNS),
-    "rank": (rank_job, RANK_COLUMNS),
-}
-
-
-# -- output -------------------------------------------------------------------------------
-def csv_text(results: list[FileResult], columns: tuple[str, ...]) -> str:
-    """The summary CSV: a header, then one row per file (floats in full precision)."""
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(columns)
-    for r in results:
-        values = {"file": r.file, "status": "ok" if r.ok else "error", "error": r.error,
-                  **r.row}
-        cells = []
-        for col in columns:
-            v = values.get(col)
-            if v is None or (isinstance(v, float) and not math.isfinite(v)):
-                cells.append("")
-            else:
-                cells.append(repr(v) if isinstance(v, float) else str(v))
-        w.writerow(cells)
-    return buf.getvalue()
+from trayadvisor.batch import JOBS, FileResult, run_files, summary_csv
+from trayadvisor.cli.common import UserError, print_json
+from trayadvisor.layoutfile import atomic_write_text
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_uT
 
 
 def human_line(kind: str, r: FileResult) -> str:
+    """One line of the plain-text batch output for a file that ran."""
     row = r.row
     if kind == "field":
-
         order = decay_text(row["far_field_order"])
-        return (f"{r.file}: {fmt_ut(row['max_resultant_uT'])} µT at {row['distance_mm']:g} mm;"
+        return (f"{r.file}: {fmt_uT(row['max_resultant_uT'])} µT at {row['distance_mm']:g} mm;"
                 f" far field {order}; {row['limits_failed']} of {row['limits']} limit(s) failed")
     red = row["reduction_pct"]
-    best = "-" if row["best_uT"] is None else f"{fmt_ut(row['best_uT'])} µT"
+    best = "-" if row["best_uT"] is None else f"{fmt_uT(row['best_uT'])} µT"
     return (f"{r.file}: {row['method']}, {row['evaluated']} evaluated: "
-            f"{fmt_ut(row['baseline_uT'])} µT now, best {best}"
+            f"{fmt_uT(row['baseline_uT'])} µT now, best {best}"
             + ("" if red is None else f" ({red:.1f} % lower)"))
 
 
@@ -148,7 +84,7 @@ def run_batch(kind: str, files: list[str], opts: dict, args: argparse.Namespace)
     as_json = bool(getattr(args, "json", False))
     if out:
         try:
-            atomic_write_text(out, csv_text(results, columns))
+            atomic_write_text(out, summary_csv(results, columns))
         except OSError as exc:
             raise UserError(f"--out {out}: cannot write ({exc.strerror or exc})") from None
         print(f"wrote {out}: {len(results)} file(s), {len(failed)} failed",

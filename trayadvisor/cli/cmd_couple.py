@@ -5,9 +5,11 @@ from __future__ import annotations
 import argparse
 import math
 
-from trayadvisor.cli.common import CAUTION_LINE, UserError, load, positive, print_json
-from trayadvisor.coupling.victims import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
+from trayadvisor.cli.common import UserError, load, positive, print_json
+from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
+from trayadvisor.engine.units import NH
 from trayadvisor.model import Layout
+from trayadvisor.output import CAUTION_LINE
 
 #: Conductor temperatures accepted by ``--temperature-c``, °C.
 TEMPERATURE_RANGE_C = (-50.0, 250.0)
@@ -30,7 +32,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def options(args: argparse.Namespace) -> dict:
-    """Validated keyword arguments for :func:`trayadvisor.coupling.victims.coupling_summary`."""
+    """Validated keyword arguments for :func:`trayadvisor.coupling.coupling_summary`."""
     if args.length_m is not None:
         positive("--length-m", args.length_m)
     t = args.temperature_c
@@ -74,7 +76,7 @@ def render(path: str, layout: Layout, s: CouplingSummary) -> str:
             head = "".join(f"{s.loops[k][:11]:>12}" for k in victim_idx)
             rows.append(f"  mutual inductance, nH/m   {head}")
             for k in power:
-                vals = "".join(f"{s.mutual_H_per_m[k, j] * 1e9:>12.3g}" for j in victim_idx)
+                vals = "".join(f"{s.mutual_H_per_m[k, j] * NH:>12.3g}" for j in victim_idx)
                 rows.append(f"    {s.loops[k][:22]:<22}{vals}")
     else:
         rows.append("  no signal circuit with an a and a b conductor: no victim loop")

@@ -4,19 +4,13 @@ from __future__ import annotations
 
 import argparse
 
-from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM, FieldSummary, field_summary
-from trayadvisor.cli.common import (
-    CAUTION_LINE,
-    fmt_mm,
-    fmt_ut,
-    load,
-    non_negative,
-    parse_xy,
-    positive,
-    print_json,
-)
+from trayadvisor.analysis import FieldSummary, field_summary
+from trayadvisor.batch import expand_inputs
+from trayadvisor.cli.batch_runs import run_batch
+from trayadvisor.cli.common import load, non_negative, parse_xy, positive, print_json
+from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.model import Layout
-from trayadvisor.output.wording import decay_text
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_mm, fmt_uT
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -27,7 +21,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help=f"distance outside the tray envelope (default {DEFAULT_DISTANCE_MM:g})")
     p.add_argument("--at", action="append", default=[], metavar="X,Y",
                    help="also report the field at this point (mm); repeatable")
-    p.add_argument("--limit-ut", type=float, default=None, metavar="B",
+    p.add_argument("--limit-ut", dest="limit_uT", type=float, default=None, metavar="B",
                    help="test against this limit (µT): pass/fail and clearance distance")
     p.add_argument("--sharing", action="store_true",
                    help="use solved current sharing between parallel conductors")
@@ -38,12 +32,13 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def options(args: argparse.Namespace) -> dict:
-    """Validated keyword arguments for :func:`compute` (shared with batch runs)."""
+    """Validated keyword arguments for :func:`trayadvisor.analysis.field_summary` (single and
+    batch runs make the same call)."""
     non_negative("--distance-mm", args.distance_mm)
     limits = []
-    if args.limit_ut is not None:
-        positive("--limit-ut", args.limit_ut)
-        limits.append(("--limit-ut", args.limit_ut, "command line"))
+    if args.limit_uT is not None:
+        positive("--limit-ut", args.limit_uT)
+        limits.append(("--limit-ut", args.limit_uT, "command line"))
     return {
         "distance_mm": args.distance_mm,
         "at": [parse_xy(t) for t in args.at],
@@ -52,23 +47,13 @@ def options(args: argparse.Namespace) -> dict:
     }
 
 
-def compute(layout: Layout, distance_mm: float, at: list, limits: list,
-            sharing: bool = False) -> FieldSummary:
-    overrides = None
-    if sharing:
-        from trayadvisor.coupling.victims import sharing_overrides
-
-        overrides = sharing_overrides(layout)
-    return field_summary(layout, distance_mm, at=at, limits=limits, overrides=overrides)
-
-
 def render(path: str, layout: Layout, s: FieldSummary) -> str:
     order = decay_text(s.far_field_order)
     rows = [
         f"{path}: {layout.title or '(untitled)'}",
-        f"  stray field at {s.distance_mm:g} mm: {fmt_ut(s.max_resultant_uT)} µT "
+        f"  stray field at {s.distance_mm:g} mm: {fmt_uT(s.max_resultant_uT)} µT "
         f"(resultant RMS), peak at x={s.max_at_mm[0]:.0f} mm, y={s.max_at_mm[1]:.0f} mm",
-        f"  far field falls as {order}; {fmt_ut(s.far_field_uT_at_1m)} µT at 1 m "
+        f"  far field falls as {order}; {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m "
         f"by the leading term",
     ]
     pts = s.points + s.named_points
@@ -76,31 +61,27 @@ def render(path: str, layout: Layout, s: FieldSummary) -> str:
         rows.append(f"  {'point':<14}{'x mm':>9}{'y mm':>9}{'resultant µT':>14}{'max µT':>10}")
         for p in pts:
             rows.append(f"  {p.name:<14}{p.x_mm:>9.0f}{p.y_mm:>9.0f}"
-                        f"{fmt_ut(p.resultant_uT):>14}{fmt_ut(p.max_uT):>10}")
+                        f"{fmt_uT(p.resultant_uT):>14}{fmt_uT(p.max_uT):>10}")
     for ln in s.lines:
-        rows.append(f"  line {ln.name}: up to {fmt_ut(ln.max_resultant_uT)} µT at "
+        rows.append(f"  line {ln.name}: up to {fmt_uT(ln.max_resultant_uT)} µT at "
                     f"x={ln.max_at_mm[0]:.0f} mm, y={ln.max_at_mm[1]:.0f} mm")
     if s.limits:
         rows.append(f"  {'limit':<28}{'µT':>8}  {'clearance':>14}  at {s.distance_mm:g} mm")
         for lim in s.limits:
             verdict = "pass" if lim.passes else "FAIL"
-            rows.append(f"  {lim.name[:27]:<28}{fmt_ut(lim.ut):>8}  {fmt_mm(lim.clearance_mm):>14}"
-                        f"  {verdict}")
+            rows.append(f"  {lim.name[:27]:<28}{fmt_uT(lim.limit_uT):>8}  "
+                        f"{fmt_mm(lim.clearance_mm):>14}  {verdict}")
     rows.append(CAUTION_LINE)
     return "\n".join(rows)
 
 
 def run(args: argparse.Namespace) -> int:
     opts = options(args)
-    from trayadvisor.batch import expand_inputs
-
     files = expand_inputs(args.files)
     if len(files) != 1 or args.out:
-        from trayadvisor.cli.batch_runs import run_batch
-
         return run_batch("field", files, opts, args)
     layout = load(files[0])
-    summary = compute(layout, **opts)
+    summary = field_summary(layout, **opts)
     if args.json:
         print_json(summary.to_json())
     else:

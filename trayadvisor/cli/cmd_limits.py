@@ -19,7 +19,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def _value(lim: LibraryLimit, f: float) -> float | None:
-    return lim.value_ut(f) if lim.valid_at(f) else None
+    return lim.value_uT(f) if lim.valid_at(f) else None
 
 
 def _row(lim: LibraryLimit, f: float | None) -> dict:
@@ -28,7 +28,7 @@ def _row(lim: LibraryLimit, f: float | None) -> dict:
            "uT_at_60hz": _value(lim, 60.0), "source": lim.source, "checked": lim.checked,
            "note": lim.note}
     if f is not None:
-        row["uT"] = lim.value_ut(f)
+        row["uT"] = lim.value_uT(f)
     return row
 
 
@@ -48,7 +48,7 @@ def run(args: argparse.Namespace) -> int:
     if f is not None:
         positive("--frequency-hz", f)
     rows = [_row(lim, f) for lim in LIBRARY if f is None or lim.valid_at(f)]
-    own = [{"name": lim.name, "uT": lim.ut, "source": lim.source}
+    own = [{"name": lim.name, "uT": lim.value_uT, "source": lim.source}
            for lim in (layout.limits if layout else ())]
     if args.json:
         print_json({"frequency_hz": f, "library": rows, "layout": own})

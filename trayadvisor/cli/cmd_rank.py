@@ -8,18 +8,36 @@ import signal
 import sys
 import threading
 import time
-from collections.abc import Callable
 from pathlib import Path
 
-from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM
-from trayadvisor.cli.common import CAUTION_LINE, UserError, fmt_ut, load, print_json
+from trayadvisor.batch import expand_inputs
+from trayadvisor.cli.batch_runs import run_batch
+from trayadvisor.cli.common import UserError, load, print_json
+from trayadvisor.engine import DEFAULT_DISTANCE_MM
+from trayadvisor.layoutfile import LayoutError, validate_layout, write_layout
 from trayadvisor.model import Layout
-from trayadvisor.ranking.rank import DEFAULT_MAX_EXHAUSTIVE, RankError, RankResult, rank_layout
-from trayadvisor.ranking.sketch import sketch
-from trayadvisor.ranking.slots import SLOT_RULES
-from trayadvisor.output.wording import decay_text
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_uT, write_result
+from trayadvisor.ranking import (
+    DEFAULT_MAX_EXHAUSTIVE,
+    SLOT_RULES,
+    RankError,
+    RankResult,
+    apply_option,
+    check_rank_options,
+    rank_layout,
+    sketch_text,
+)
 
 PREFIX = "trayadvisor rank"
+
+#: The flag of each keyword argument of :func:`trayadvisor.ranking.rank_layout`, for errors.
+FLAGS: dict[str, str] = {
+    "distance_mm": "--distance-mm", "top_k": "--top", "objective": "--objective",
+    "slots": "--slots", "bundles": "--bundles", "budget_s": "--budget-s", "seed": "--seed",
+    "max_exhaustive": "--max-exhaustive", "sharing": "--sharing",
+    "max_imbalance_pct": "--max-imbalance-pct",
+    "max_induced_mV_per_m": "--max-induced-mv-per-m",
+}
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -65,81 +83,62 @@ def _fail(text: str) -> UserError:
     return UserError(f"{PREFIX}: {text}")
 
 
-def _int(name: str, text: str, low: int) -> int:
+def flag_error(err: RankError, given: dict[str, str] | None = None) -> UserError:
+    """A core ranking error in the words of the command line: its flag and the text typed."""
+    if err.parameter is None:
+        return _fail(err.reason)
+    flag = FLAGS.get(err.parameter, err.parameter)
+    text = (given or {}).get(err.parameter)
+    if text is None:
+        text = "" if isinstance(err.value, bool) else str(err.value)
+    return _fail(f"{flag}{' ' + text if text else ''}: {err.reason}")
+
+
+def _int(name: str, text: str) -> int:
     try:
-        v = int(str(text).strip())
+        return int(str(text).strip())
     except ValueError:
         raise _fail(f"{name} {text}: must be a whole number") from None
-    if v < low:
-        raise _fail(f"{name} {v}: must be at least {low}")
-    return v
 
 
-def _float(name: str, text: str, positive: bool) -> float:
+def _float(name: str, text: str) -> float:
     try:
-        v = float(str(text).strip())
+        return float(str(text).strip())
     except ValueError:
         raise _fail(f"{name} {text}: must be a number") from None
-    if not math.isfinite(v) or v < 0 or (positive and v == 0):
-        raise _fail(f"{name} {text}: must be {'a positive' if positive else 'zero or a'}"
-                    f"{'' if positive else ' positive'} number")
-    return v
 
 
 def options(args: argparse.Namespace) -> dict:
-    """Validated keyword arguments for :func:`compute` (shared with batch runs)."""
-    objective = args.objective
-    if objective is not None and objective != "contour":
-        kind, _, name = objective.partition(":")
-        if kind not in ("line", "point") or not name:
-            raise _fail(f"--objective {objective}: use line:NAME or point:NAME")
-    if args.slots is not None and args.slots not in SLOT_RULES:
-        raise _fail(f"--slots {args.slots}: use one of {', '.join(SLOT_RULES)}")
-    return {
-        "distance_mm": _float("--distance-mm", args.distance_mm, positive=False),
-        "top_k": _int("--top", args.top, 1),
-        "objective": None if objective == "contour" else objective,
+    """Keyword arguments for :func:`trayadvisor.ranking.rank_layout`, checked by the core
+    (:func:`trayadvisor.ranking.check_rank_options`); single and batch runs make the same
+    call."""
+    imbalance = getattr(args, "max_imbalance_pct", None)
+    induced = getattr(args, "max_induced_mv_per_m", None)
+    given = {"distance_mm": args.distance_mm, "top_k": args.top, "objective": args.objective,
+             "slots": args.slots, "budget_s": args.budget_s, "seed": args.seed,
+             "max_exhaustive": args.max_exhaustive, "max_imbalance_pct": imbalance,
+             "max_induced_mV_per_m": induced}
+    opts = {
+        "distance_mm": _float("--distance-mm", args.distance_mm),
+        "top_k": _int("--top", args.top),
+        "objective": None if args.objective == "contour" else args.objective,
         "slots": args.slots,
         "bundles": bool(args.bundles),
-        "budget_s": None if args.budget_s is None else _float("--budget-s", args.budget_s,
-                                                              positive=True),
-        "seed": _int("--seed", args.seed, 0),
-        "max_exhaustive": _int("--max-exhaustive", args.max_exhaustive, 0),
+        "budget_s": None if args.budget_s is None else _float("--budget-s", args.budget_s),
+        "seed": _int("--seed", args.seed),
+        "max_exhaustive": _int("--max-exhaustive", args.max_exhaustive),
         "sharing": bool(getattr(args, "sharing", False)),
-        "max_imbalance_pct": _limit("--max-imbalance-pct",
-                                    getattr(args, "max_imbalance_pct", None)),
-        "max_induced_mv_per_m": _limit("--max-induced-mv-per-m",
-                                       getattr(args, "max_induced_mv_per_m", None)),
+        # a limit not given = inf: the figure is listed, nothing is excluded
+        "max_imbalance_pct": math.inf if imbalance is None
+        else _float("--max-imbalance-pct", imbalance),
+        "max_induced_mV_per_m": math.inf if induced is None
+        else _float("--max-induced-mv-per-m", induced),
     }
-
-
-def _limit(name: str, text: str | None) -> float:
-    """A constraint limit; none given = inf (the figure is listed, nothing is excluded)."""
-    return math.inf if text is None else _float(name, text, positive=True)
-
-
-def compute(layout: Layout, *, distance_mm: float, top_k: int, objective: str | None,
-            slots: str | None, bundles: bool, budget_s: float | None, seed: int,
-            max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE, sharing: bool = False,
-            max_imbalance_pct: float = math.inf, max_induced_mv_per_m: float = math.inf,
-            progress: Callable[[float, str], None] | None = None,
-            cancel: Callable[[], bool] | None = None) -> RankResult:
-    """One ranking run (the engine call shared by single and batch runs).
-
-    Every option lists its current imbalance and victim EMF (when the layout has parallel
-    conductors or victim loops); finite limits also exclude options.
-    """
-    from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
-
-    constraints = []
-    if not math.isinf(max_imbalance_pct):
-        constraints.append(imbalance_constraint(max_imbalance_pct))
-    if not math.isinf(max_induced_mv_per_m):
-        constraints.append(induced_voltage_constraint(max_induced_mv_per_m, sharing=sharing))
-    return rank_layout(layout, distance_mm=distance_mm, top_k=top_k, objective=objective,
-                       slots=slots, bundles=bundles, max_exhaustive=max_exhaustive,
-                       budget_s=budget_s, seed=seed, constraints=tuple(constraints),
-                       sharing=sharing, progress=progress, cancel=cancel)
+    try:
+        check_rank_options(**opts)
+    except RankError as err:
+        raise flag_error(err, {k: str(v) for k, v in given.items() if v is not None}) from None
+    return opts
 
 
 def render(path: str, layout: Layout, r: RankResult) -> str:
@@ -149,17 +148,17 @@ def render(path: str, layout: Layout, r: RankResult) -> str:
     rows = [f"{path}: {layout.title or '(untitled)'}",
             f"  objective: {r.objective}; {r.method}: {done} arrangements evaluated in "
             f"{r.elapsed_s:.1f} s{exact}",
-            f"  now (arrangement in the file): {fmt_ut(r.baseline_uT)} µT",
+            f"  now (arrangement in the file): {fmt_uT(r.baseline_uT)} µT",
             f"  {'rank':>4}  {'µT':>9}  {'reduction':>9}  {'dB':>6}  far field"]
     for o in r.options:
         db = "inf" if math.isinf(o.reduction_db) else f"{o.reduction_db:.1f}"
         figs = "".join(f"  {k} {v:.3g}" for k, v in o.figures.items())
-        rows.append(f"  {o.rank:>4}  {fmt_ut(o.max_resultant_uT):>9}  "
+        rows.append(f"  {o.rank:>4}  {fmt_uT(o.max_resultant_uT):>9}  "
                     f"{o.reduction_pct:>7.1f} %  {db:>6}  "
                     f"{decay_text(o.far_field_order, short=True, none='-')}"
                     f"{figs}")
     rows.append("  now:")
-    rows += ["    " + ln for ln in sketch(layout, r.baseline_positions).splitlines()]
+    rows += ["    " + ln for ln in sketch_text(layout, r.baseline_positions).splitlines()]
     if r.options:
         rows.append("  option 1:")
         rows += ["    " + ln for ln in r.options[0].sketch.splitlines()]
@@ -222,15 +221,13 @@ def _check_out(out: str | None, apply: int | None) -> None:
 
 def run(args: argparse.Namespace) -> int:
     opts = options(args)
-    apply = None if args.apply is None else _int("--apply", args.apply, 1)
-    from trayadvisor.batch import expand_inputs
-
+    apply = None if args.apply is None else _int("--apply", args.apply)
+    if apply is not None and apply < 1:
+        raise _fail(f"--apply {args.apply}: must be at least 1")
     files = expand_inputs(args.files)
     if len(files) != 1 or Path(args.files[0]).is_dir():
         if apply is not None:
             raise _fail(f"--apply {apply}: works on one FILE, not a batch")
-        from trayadvisor.cli.batch_runs import run_batch
-
         return run_batch("rank", files, opts, args)
     _check_out(args.out, apply)
     layout = load(files[0])
@@ -240,9 +237,9 @@ def run(args: argparse.Namespace) -> int:
     main_thread = threading.current_thread() is threading.main_thread()
     old = signal.signal(signal.SIGINT, prog.interrupt) if main_thread else None
     try:
-        result = compute(layout, **opts, progress=prog, cancel=lambda: prog.stop)
+        result = rank_layout(layout, **opts, progress=prog, cancel=lambda: prog.stop)
     except RankError as err:
-        raise _fail(str(err)) from None
+        raise flag_error(err) from None
     finally:
         if main_thread:
             signal.signal(signal.SIGINT, old)
@@ -265,9 +262,6 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
             if apply > len(result.options):
                 raise _fail(f"--apply {apply}: only {len(result.options)} option(s) were "
                             f"found; choose 1 to {len(result.options)}")
-            from trayadvisor.layoutfile.reader import LayoutError, validate_layout, write_layout
-            from trayadvisor.ranking.rank import apply_option
-
             opt = result.options[apply - 1]
             new = apply_option(layout, opt)
             try:
@@ -277,11 +271,9 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
                             f"({err.message})") from None
             write_layout(new, out)
             print(f"wrote {out}: {path} with option {apply} "
-                  f"({fmt_ut(opt.max_resultant_uT)} µT, {opt.reduction_pct:.1f} % lower)",
+                  f"({fmt_uT(opt.max_resultant_uT)} µT, {opt.reduction_pct:.1f} % lower)",
                   file=stream)
             return
-        from trayadvisor.output.exports import write_result
-
         fmt = write_result(result, out, layout, layout.title)
         print(f"wrote {out}: {len(result.options)} option(s) as {fmt}", file=stream)
     except OSError as exc:

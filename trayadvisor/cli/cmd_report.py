@@ -6,8 +6,9 @@ import argparse
 import os
 from pathlib import Path
 
-from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM
-from trayadvisor.cli.common import CAUTION_LINE, UserError, load, non_negative
+from trayadvisor.cli.common import UserError, load, non_negative
+from trayadvisor.engine import DEFAULT_DISTANCE_MM
+from trayadvisor.output import CAUTION_LINE, REPORT_FORMATS, write_report
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -24,13 +25,11 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from trayadvisor.output.report import FORMATS, write_report
-
     non_negative("--distance-mm", args.distance_mm)
     if args.top < 1:
         raise UserError(f"--top {args.top}: must be 1 or more")
     out = Path(args.out)
-    if out.suffix.lower() not in FORMATS:
+    if out.suffix.lower() not in REPORT_FORMATS:
         raise UserError(f"--out {args.out}: a report is PATH.html or PATH.md")
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():

@@ -7,11 +7,9 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from trayadvisor.output.cautions import CAUTION_LINE  # noqa: F401  (re-exported for commands)
-from trayadvisor.output.jsontext import dumps
-from trayadvisor.layoutfile.reader import LayoutError, read_layout
+from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
-from trayadvisor.output.wording import demo_path, fmt_mm, fmt_ut  # noqa: F401  (re-exported)
+from trayadvisor.output import dumps
 
 
 class UserError(Exception):
@@ -49,11 +47,6 @@ def non_negative(name: str, value: float) -> float:
     return value
 
 
-def dumps_json(obj: Any) -> str:
-    return dumps(obj)
-
-
 def print_json(obj: Any) -> None:
-    sys.stdout.write(dumps_json(obj) + "\n")
-
-
+    """Print ``obj`` as JSON (the one JSON writer; non-finite floats as null)."""
+    sys.stdout.write(dumps(obj) + "\n")

@@ -1,6 +1,9 @@
-"""``trayadvisor`` entry point: one sub-command module per command.
+"""The command line: one sub-command module per command, argument parsing and output only.
 
-Each module in :data:`COMMANDS` exposes ``add_parser(subparsers)`` and ``run(args) -> int``.
+Each module in :data:`COMMANDS` exposes ``add_parser(subparsers)``; a command that runs here
+sets ``run(args) -> int``, the terminal-UI commands (bare ``trayadvisor`` and ``edit``) set
+``ui_options(args) -> dict`` instead, and :mod:`trayadvisor.launcher` starts the UI with
+those options (the CLI never imports the UI).
 """
 
 from __future__ import annotations
@@ -8,10 +11,11 @@ from __future__ import annotations
 import argparse
 import importlib
 import sys
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 
 from trayadvisor import __version__
-from trayadvisor.cli.common import CAUTION_LINE, UserError
+from trayadvisor.cli.common import UserError
+from trayadvisor.output import CAUTION_LINE
 
 COMMANDS: tuple[str, ...] = ("edit", "check", "field", "report", "limits", "couple", "rank")
 
@@ -47,13 +51,28 @@ def _join_negative_values(argv: list[str]) -> list[str]:
     return out
 
 
-def main(argv: Sequence[str] | None = None) -> int:
-    parser = build_parser()
-    args = parser.parse_args(_join_negative_values(list(sys.argv[1:] if argv is None else argv)))
+def parse_args(argv: Sequence[str] | None = None) -> argparse.Namespace:
+    """The parsed command line (``sys.argv[1:]`` by default); argparse exits on bad usage."""
+    return build_parser().parse_args(
+        _join_negative_values(list(sys.argv[1:] if argv is None else argv)))
+
+
+def wants_ui(args: argparse.Namespace) -> bool:
+    """True for the commands that open the terminal UI (bare ``trayadvisor``, ``edit``)."""
+    return args.command is None or hasattr(args, "ui_options")
+
+
+def ui_options(args: argparse.Namespace) -> dict:
+    """Validated keyword arguments for the UI's ``make_app`` (raises :class:`UserError`)."""
+    if args.command is None:
+        return {"path": None}
+    return args.ui_options(args)
+
+
+def guarded(action: Callable[[], int]) -> int:
+    """Run ``action``; a :class:`UserError` becomes one line on stderr and exit status 2."""
     try:
-        if args.command is None:
-            return importlib.import_module("trayadvisor.cli.cmd_edit").run_default(args)
-        return int(args.run(args) or 0)
+        return int(action() or 0)
     except UserError as err:
         print(str(err), file=sys.stderr)
         return 2
@@ -62,6 +81,23 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return 0
+
+
+def _needs_the_ui() -> int:
+    raise UserError("trayadvisor: this command opens the terminal UI; run the trayadvisor "
+                    "program (trayadvisor.launcher) for it")
+
+
+def run(args: argparse.Namespace) -> int:
+    """Run a parsed command-line (not UI) command; exit status 0, or 2 for bad input."""
+    if wants_ui(args):
+        return guarded(_needs_the_ui)
+    return guarded(lambda: args.run(args))
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """The command-line commands (``check``, ``field``, ``rank``, …) without the UI."""
+    return run(parse_args(argv))
 
 
 if __name__ == "__main__":

@@ -1,1 +1,55 @@
-"""(front door written in the next commit)."""
+"""Coupling: inductance, current sharing, victim EMF, and their ranking constraints.
+
+- :mod:`~trayadvisor.coupling.inductance` — per-metre and finite-length (Grover) mutual
+  inductance, geometric mean radii, the loops of a layout and their inductance matrix.
+- :mod:`~trayadvisor.coupling.sharing` — the impedance system of all conductors and the
+  current sharing between parallel conductors of a phase (R' from area and material).
+- :mod:`~trayadvisor.coupling.victims` — the EMF induced in victim signal loops, per metre,
+  over a run and per harmonic; the screen/earth loop.
+- :mod:`~trayadvisor.coupling.summary` — ``coupling_summary``: every coupling figure of one
+  layout (what ``couple`` prints and the UI shows).
+- :mod:`~trayadvisor.coupling.constraints` — current imbalance and victim EMF as ranking
+  constraints, evaluated in batches without building layouts.
+
+The method is written up in ``docs/coupling.md``.
+"""
+
+from trayadvisor.coupling.constraints import (
+    ConstraintFigure,
+    imbalance_constraint,
+    induced_voltage_constraint,
+)
+from trayadvisor.coupling.inductance import (
+    gmr_m,
+    grover_mutual_finite,
+    loop_inductance_matrix,
+    mutual_inductance_per_m,
+)
+from trayadvisor.coupling.sharing import (
+    DEFAULT_TEMPERATURE_C,
+    SharingResult,
+    resistance_per_m,
+    sharing_overrides,
+    solve_sharing,
+)
+from trayadvisor.coupling.summary import CouplingSummary, coupling_summary
+from trayadvisor.coupling.victims import VictimFigure, induced_emf
+
+__all__ = [
+    "DEFAULT_TEMPERATURE_C",
+    "ConstraintFigure",
+    "CouplingSummary",
+    "SharingResult",
+    "VictimFigure",
+    "coupling_summary",
+    "gmr_m",
+    "grover_mutual_finite",
+    "imbalance_constraint",
+    "induced_emf",
+    "induced_voltage_constraint",
+    "loop_inductance_matrix",
+    "mutual_inductance_per_m",
+    "resistance_per_m",
+    "sharing_overrides",
+    "solve_sharing",
+]

@@ -19,8 +19,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.coupling.victims import MV, EmfPlan, emf_phasors, emf_plan
-from trayadvisor.model import Layout
 from trayadvisor.coupling.sharing import (
     DEFAULT_TEMPERATURE_C,
     SharingPlan,
@@ -28,7 +26,10 @@ from trayadvisor.coupling.sharing import (
     sharing_plan,
     solve_plan,
 )
-from trayadvisor.engine.currents import MM, sources
+from trayadvisor.coupling.victims import EmfPlan, emf_phasors, emf_plan
+from trayadvisor.engine import layout_sources
+from trayadvisor.engine.units import MM, MV
+from trayadvisor.model import Layout
 
 _CACHE_SIZE = 8
 
@@ -155,7 +156,7 @@ class InducedVoltageConstraint(_PlanCache):
         self.temperature_c = float(temperature_c)
 
     def _build(self, layout: Layout) -> _EmfSetup:
-        src = sources(layout)
+        src = layout_sources(layout)
         shp = sharing_plan(layout, self.temperature_c) if self.sharing else None
         return _EmfSetup(emf_plan(layout), 2.0 * np.pi * src.frequency_hz, src.currents, shp)
 

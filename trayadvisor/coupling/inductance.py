@@ -22,9 +22,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.field import K_LINE, MU0
+from trayadvisor.engine.units import K_LINE, MM
 from trayadvisor.model import Layout
-from trayadvisor.engine.currents import MM
 
 #: Ratio of the geometric mean radius to the radius of a solid round conductor, e^(−1/4).
 GMR_SOLID: float = float(np.exp(-0.25))
@@ -103,37 +102,6 @@ def grover_mutual_finite(l: np.ndarray | float, d: np.ndarray | float) -> np.nda
     d_ = np.asarray(d, dtype=float)
     q = d_ / l_
     return K_LINE * l_ * (np.arcsinh(l_ / d_) - np.sqrt(1.0 + q * q) + q)
-
-
-def neumann_mutual_numeric(l: float, d: float) -> float:  # noqa: E741
-    """Mutual inductance of two parallel filaments by numerical Neumann integration.
-
-    Parameters
-    ----------
-    l : float
-        Filament length, m.
-    d : float
-        Distance between the filaments, m.
-
-    Returns
-    -------
-    float
-        M in H.
-
-    Notes
-    -----
-    M = (μ0 / 4π) ∫₀ˡ ∫₀ˡ dx dy / sqrt((x − y)² + d²), evaluated with
-    ``scipy.integrate.dblquad``; an independent check of :func:`grover_mutual_finite`.
-
-    References
-    ----------
-    F. E. Neumann's formula, e.g. Grover, *Inductance Calculations*, 1946, chapter 1.
-    """
-    from scipy.integrate import dblquad
-
-    val, _ = dblquad(lambda y, x: 1.0 / np.sqrt((x - y) ** 2 + d * d), 0.0, l, 0.0, l,
-                     epsabs=1e-13, epsrel=1e-11)
-    return float(MU0 / (4.0 * np.pi) * val)
 
 
 def log_distance_matrix(xy_m: np.ndarray, self_m: np.ndarray) -> np.ndarray:

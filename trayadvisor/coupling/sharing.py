@@ -7,14 +7,16 @@ Model (per metre of run, one solve per frequency component, all circuits jointly
 - A *phase group* is the conductors of one circuit with one phase label (not PE, not
   signal) that have no explicit ``current_a``. Groups of two or more are *parallel groups*;
   their currents are the unknowns, all other conductors keep the currents of
-  :func:`trayadvisor.engine.currents.sources` (equal shares, explicit values, neutral returns).
+  :func:`trayadvisor.engine.layout_sources` (equal shares, explicit values, neutral
+  returns).
 - Parallel conductors of a group are joined at both ends, so they share one voltage drop
   U_g, and their currents sum to the group's current (the circuit's phase current, fixed).
 - The currents of every other conductor in the tray induce voltage in each group (all
   circuits are solved jointly, every group's total fixed). A group is solved at its own
   circuit's components only (the fundamental and its harmonics; DC for dc circuits): the
   circulating current another circuit's harmonic would induce in it at a frequency its own
-  circuit does not carry is left out, as :func:`trayadvisor.engine.currents.sources` carries none.
+  circuit does not carry is left out, as :func:`trayadvisor.engine.layout_sources` carries
+  none.
 
 The arbitrary length reference of ln(1/d) adds the same voltage to every conductor, which the
 unknown U_g absorb: the currents do not depend on it.
@@ -31,10 +33,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.field import K_LINE
 from trayadvisor.coupling.inductance import gmr_m, log_distance_matrix
+from trayadvisor.engine import layout_sources
+from trayadvisor.engine.units import K_LINE, MM, MM2
 from trayadvisor.model import MATERIALS, Layout
-from trayadvisor.engine.currents import MM, sources
 
 #: Conductor temperature for R' unless the caller states one: 90 °C, the maximum continuous
 #: operating temperature of XLPE/EPR insulated cables (common practice).
@@ -73,7 +75,7 @@ def resistance_per_m(area_mm2: np.ndarray | float, material: str | Sequence[str]
     mats = [material] if isinstance(material, str) else list(material)
     rho = np.array([MATERIALS[m][0] for m in mats], dtype=float)
     alpha = np.array([MATERIALS[m][1] for m in mats], dtype=float)
-    r = rho * (1.0 + alpha * (float(temperature_c) - 20.0)) / (np.asarray(area_mm2) * 1e-6)
+    r = rho * (1.0 + alpha * (float(temperature_c) - 20.0)) / (np.asarray(area_mm2) * MM2)
     return r[0] if isinstance(material, str) and np.ndim(area_mm2) == 0 else r
 
 
@@ -112,7 +114,7 @@ class SharingPlan:
 def sharing_plan(layout: Layout, temperature_c: float = DEFAULT_TEMPERATURE_C) -> SharingPlan:
     """Precompute the position-independent part of :func:`solve_sharing`."""
     cons = layout.conductors
-    src = sources(layout)
+    src = layout_sources(layout)
     systems = {c.name: c.system for c in layout.circuits}
     members: dict[tuple[str, str], list[int]] = {}
     for i, c in enumerate(cons):
@@ -285,7 +287,7 @@ class SharingResult:
     gmr_from_overall: tuple[str, ...]  # parallel conductors whose GMR used the overall radius
 
     def overrides(self) -> dict[int, dict[str, complex]]:
-        """Solved currents as :func:`trayadvisor.engine.currents.sources` ``overrides``."""
+        """Solved currents as :func:`trayadvisor.engine.currents.layout_sources` ``overrides``."""
         members = [s.conductor for s in self.shares]
         if not members:
             return {}
@@ -349,7 +351,7 @@ def sharing_overrides(
 ) -> dict[int, dict[str, complex]]:
     """Solved currents of the parallel conductors, ``{order: {conductor name: phasor (A)}}``.
 
-    The shape :func:`trayadvisor.engine.currents.sources` accepts as ``overrides``; empty when the
-    layout has no parallel conductors.
+    The shape :func:`trayadvisor.engine.layout_sources` accepts as ``overrides``; empty when
+    the layout has no parallel conductors.
     """
     return solve_sharing(layout, temperature_c).overrides()

@@ -1,9 +1,6 @@
-"""Coupling ("crosstalk"): EMF induced in victim loops, and the coupling figures of a layout.
+"""Coupling ("crosstalk"): the EMF induced in victim signal loops by the power conductors.
 
-The pieces live in :mod:`trayadvisor.coupling.inductance` (per-metre and finite-length inductance,
-the loops of a layout) and :mod:`trayadvisor.coupling.sharing` (current sharing between parallel
-conductors); this module adds the victim EMF and the one summary the CLI, the UI and the
-reports share. Figures are RMS; mV/m and V at this boundary, SI inside.
+Figures are RMS; mV/m and V at this boundary, SI inside.
 
 Victim loops are the ``signal`` circuits: the loop between their ``a`` and ``b``
 conductors (several conductors of one label share equally). The sources are every conductor
@@ -15,27 +12,14 @@ conductor at its centroid, returning through an earth reference plane at height
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.field import K_LINE
-from trayadvisor.coupling.inductance import (  # noqa: F401  (re-exported public API)
-    grover_mutual_finite,
-    loop_inductance_matrix,
-    mutual_inductance_per_m,
-    neumann_mutual_numeric,
-)
+from trayadvisor.coupling.inductance import grover_mutual_finite
+from trayadvisor.engine import layout_sources
+from trayadvisor.engine.units import K_LINE, MM, MV
 from trayadvisor.model import Layout
-from trayadvisor.coupling.sharing import (  # noqa: F401  (re-exported public API)
-    DEFAULT_TEMPERATURE_C,
-    SharingResult,
-    sharing_overrides,
-    solve_sharing,
-)
-from trayadvisor.engine.currents import MM, sources
-
-MV = 1e3  #: mV per V
 
 
 @dataclass(frozen=True)
@@ -200,7 +184,8 @@ def induced_emf(layout: Layout, length_m: float | None = None,
     length_m : float, optional
         Run length for victims whose circuit gives no ``length_m``.
     overrides : optional
-        Solved currents (:func:`sharing_overrides`) instead of equal shares.
+        Solved currents (:func:`~trayadvisor.coupling.sharing.sharing_overrides`) instead
+        of equal shares.
     earth_y_mm : float, optional
         Earth reference height, mm; defaults to the layout's ``earth_y_mm`` key when present.
         Adds the screen/earth loop figures.
@@ -226,7 +211,7 @@ def induced_emf(layout: Layout, length_m: float | None = None,
         return []
     if earth_y_mm is None:
         earth_y_mm = layout.earth_y_mm
-    src = sources(layout, overrides)
+    src = layout_sources(layout, overrides)
     omega = 2.0 * np.pi * src.frequency_hz
     xy = src.xy_m
     earth_m = None if earth_y_mm is None else float(earth_y_mm) * MM
@@ -257,87 +242,3 @@ def induced_emf(layout: Layout, length_m: float | None = None,
             earth_loop_mV_per_m=None if e_tot is None else float(e_tot[v] * MV),
             earth_loop_V=earth_v))
     return out
-
-
-@dataclass(frozen=True)
-class CouplingSummary:
-    """Every coupling figure of one layout (what ``couple`` prints and the UI panel shows)."""
-
-    victims: tuple[VictimFigure, ...]
-    sharing: SharingResult
-    loops: tuple[str, ...]
-    mutual_H_per_m: np.ndarray  # (L, L)
-    sharing_used: bool  # victim EMF computed with the solved currents
-    earth_y_mm: float | None = None
-    notes: tuple[str, ...] = field(default=())
-
-    def to_json(self) -> dict:
-        """The SPEC's ``couple --json`` object, plus added keys (never renamed)."""
-        s = self.sharing
-        return {
-            "victims": [
-                {"circuit": v.circuit, "induced_mV_per_m": v.induced_mV_per_m,
-                 "length_m": v.length_m, "induced_V": v.induced_V,
-                 "finite_length_factor": v.finite_length_factor,
-                 "earth_loop_mV_per_m": v.earth_loop_mV_per_m,
-                 "earth_loop_V": v.earth_loop_V,
-                 "harmonics": [{"order": p.order, "frequency_hz": p.frequency_hz,
-                                "induced_mV_per_m": p.induced_mV_per_m}
-                               for p in v.harmonics]}
-                for v in self.victims
-            ],
-            "sharing": [
-                {"conductor": c.conductor, "circuit": c.circuit, "phase": c.phase,
-                 "current_a": c.current_a, "angle_deg": c.angle_deg,
-                 "share_pct": c.share_pct, "current_rms_a": c.current_rms_a}
-                for c in s.shares
-            ],
-            "groups": [
-                {"circuit": g.circuit, "phase": g.phase, "conductors": list(g.conductors),
-                 "current_a": g.current_a, "order": g.order,
-                 "imbalance_pct": g.imbalance_pct, "reactance_only": g.reactance_only}
-                for g in s.groups
-            ],
-            "reactance_only": s.reactance_only,
-            "temperature_c": s.temperature_c,
-            "sharing_used_for_victims": self.sharing_used,
-            "earth_y_mm": self.earth_y_mm,
-            "loops": list(self.loops),
-            "mutual_uH_per_m": (self.mutual_H_per_m * 1e6).tolist(),
-            "notes": list(self.notes),
-        }
-
-
-def coupling_summary(layout: Layout, length_m: float | None = None, sharing: bool = True,
-                     temperature_c: float = DEFAULT_TEMPERATURE_C,
-                     earth_y_mm: float | None = None) -> CouplingSummary:
-    """Loop inductances, victim EMF and current sharing of one layout.
-
-    Parameters
-    ----------
-    layout : Layout
-    length_m : float, optional
-        Run length for victims without their own ``length_m``.
-    sharing : bool
-        Compute the victim EMF with the solved sharing currents (True) or with equal shares.
-        The sharing table is reported either way.
-    temperature_c : float
-        Conductor temperature for R', °C.
-    earth_y_mm : float, optional
-        Earth reference height for the screen/earth loop (see :func:`induced_emf`).
-    """
-    shares = solve_sharing(layout, temperature_c)
-    overrides = shares.overrides() if sharing else None
-    if earth_y_mm is None:
-        earth_y_mm = layout.earth_y_mm
-    victims = induced_emf(layout, length_m, overrides, earth_y_mm)
-    names, m = loop_inductance_matrix(layout)
-    notes: list[str] = ["R' is the DC resistance (skin and proximity effect left out)"]
-    if shares.reactance_only:
-        rx = ", ".join(f"{g.circuit} {g.phase}" for g in shares.groups if g.reactance_only)
-        notes.append(f"reactance-only sharing (no conductor area given): {rx}")
-    if shares.gmr_from_overall:
-        notes.append("self inductance from the overall diameter (no area given): "
-                     + ", ".join(shares.gmr_from_overall))
-    return CouplingSummary(tuple(victims), shares, names, m, sharing,
-                           None if earth_y_mm is None else float(earth_y_mm), tuple(notes))

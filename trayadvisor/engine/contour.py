@@ -1,7 +1,8 @@
 """The closed curve at distance d outside the tray envelope, its field maximum, and clearance.
 
 The curve is the set of points at exactly distance d from the envelope rectangle: four
-straight sides joined by four quarter circles (SPEC: "stray field at distance d"). It is
+straight sides joined by four quarter circles ("stray field at distance d",
+docs/conventions.md). It is
 parametrised by arc length s, counter-clockwise from the lower-left end of the bottom side.
 All lengths here are metres and fields tesla.
 """
@@ -18,6 +19,9 @@ from scipy.optimize import brentq
 from trayadvisor.engine.field import phasor_field, resultant_rms
 
 Envelope = tuple[float, float, float, float]  # (xmin, ymin, xmax, ymax), m
+
+#: Distance d outside the tray envelope used when none is given, mm.
+DEFAULT_DISTANCE_MM = 500.0
 
 #: Points per bracket half-width in one zoom step of :func:`refine_maximum` (the bracket
 #: shrinks by this factor per step, one vectorised field evaluation per step).
@@ -239,7 +243,7 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
 
     Notes
     -----
-    SPEC, "stray field at distance d": the maximum over the curve of
+    The stray field at distance d (docs/conventions.md) is the maximum over the curve of
     B_R = sqrt(Σ_h |Bx_h|² + |By_h|²) (IEC 61786-1 resultant, harmonics root-sum-square).
     """
     if not (d >= 0.0 and math.isfinite(d)):

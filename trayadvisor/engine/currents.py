@@ -1,7 +1,8 @@
 """From a layout to the current sources an engine sees: positions, radii and phasors.
 
-Every engine (field, contour, ranking, coupling) takes its currents from :func:`sources`, so
-the phase conventions of SPEC.md live in exactly one place:
+Every engine (field, contour, ranking, coupling) takes its currents from
+:func:`layout_sources`, so the phase conventions (docs/conventions.md) live in exactly one
+place:
 
 - L1 = 0°, L2 = −120°, L3 = +120°; ac1 L = 0°, N returns the L current; dc + = +I, − = −I
   (a real current, frequency component 0); PE and signal conductors carry 0 A unless given an
@@ -21,13 +22,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trayadvisor.engine.units import MM
 from trayadvisor.model import PHASE_ANGLE_DEG, Layout
-
-MM = 1e-3  #: metres per millimetre
 
 
 @dataclass(frozen=True)
-class Sources:
+class SourceArrays:
     """Conductor geometry and RMS current phasors in SI units.
 
     Attributes
@@ -148,10 +148,10 @@ def conductor_currents(
     return out
 
 
-def sources(
+def layout_sources(
     layout: Layout,
     overrides: Mapping[int, Mapping[str, complex]] | None = None,
-) -> Sources:
+) -> SourceArrays:
     """The layout's conductors as SI arrays with their current phasors.
 
     Parameters
@@ -162,7 +162,7 @@ def sources(
 
     Returns
     -------
-    Sources
+    SourceArrays
         ``xy_m (n, 2)`` m, ``radius_m (n,)`` m, ``orders (H,)``, ``frequency_hz (H,)`` Hz and
         ``currents (H, n)`` complex RMS A, in layout conductor order; one row (the
         fundamental, all zero) when nothing carries current.
@@ -189,7 +189,7 @@ def sources(
         currents = np.zeros((1, n), dtype=complex)
     else:
         currents = np.stack([rows[h] for h in orders]).reshape(len(orders), n)
-    return Sources(
+    return SourceArrays(
         xy_m=xy,
         radius_m=radius,
         orders=orders,

@@ -22,10 +22,8 @@ from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.constants import mu_0
 
-MU0: float = mu_0  #: vacuum permeability, T·m/A (CODATA, via scipy.constants)
-K_LINE: float = mu_0 / (2.0 * np.pi)  #: μ0/(2π), T·m/A
+from trayadvisor.engine.units import K_LINE
 
 #: Conductor-point pairs per chunk: each (n, chunk) float64 work array is 512 KiB and stays
 #: in the per-core L2 cache (2 MiB on the reference machine; see bench/bench_field.py).

@@ -1,10 +1,9 @@
-"""Where things are in a layout file, and the semantic checks of a layout.
+"""The semantic checks of a layout, with the file line of each problem.
 
-``LayoutError`` is the one user-facing error of the layout reader: ``FILE:LINE: message``.
-``LineMap`` remembers on which line each table and key of a format-1 file was written, so
-that a check on the model can point back at the text. ``layout_problems`` runs every check
-on a :class:`~trayadvisor.model.Layout` (from a file or edited in the UI) and
-``validate_layout`` raises the most useful one.
+``layout_problems`` runs every check on a :class:`~trayadvisor.model.Layout` (read from a
+file or edited in the UI) and ``validate_layout`` raises the most useful one as a
+:class:`~trayadvisor.layoutfile.errors.LayoutError`; a
+:class:`~trayadvisor.layoutfile.linemap.LineMap` points each one back at the text.
 """
 
 from __future__ import annotations
@@ -14,8 +13,10 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from trayadvisor.layoutfile.errors import LayoutError, did_you_mean
+from trayadvisor.layoutfile.linemap import KeyPath, LineMap
+from trayadvisor.layoutfile.schema import TABLES
 from trayadvisor.model import MATERIALS, PHASES, REQUIRED_PHASES, SYSTEMS, Layout
-from trayadvisor.layoutfile.linemap import KeyPath, LayoutError, LineMap, did_you_mean
 
 #: Largest accepted ``samples`` of an observation line (keeps the engines' arrays sane).
 MAX_SAMPLES = 100_000
@@ -44,8 +45,6 @@ _NUMBERS: dict[str, dict[str, str]] = {
     "line": {"x0_mm": "mm", "y0_mm": "mm", "x1_mm": "mm", "y1_mm": "mm"},
     "limit": {"ut": "µT >0"},
 }
-_KINDS = {"tray": "trays", "circuit": "circuits", "conductor": "conductors", "point": "points",
-          "line": "lines", "limit": "limits"}
 
 
 class _Checks:
@@ -87,14 +86,14 @@ def _stage_values(ck: _Checks) -> None:
     ck.number(("frequency_hz",), "layout", lay.frequency_hz, "Hz >0")
     if lay.earth_y_mm is not None:
         ck.number(("earth_y_mm",), "layout", lay.earth_y_mm, "mm")
-    for kind, attr in _KINDS.items():
-        for i, item in enumerate(getattr(lay, attr)):
+    for kind, table in TABLES.items():
+        for i, item in enumerate(getattr(lay, table.attr)):
             if not isinstance(item.name, str) or not item.name.strip():
                 ck.add((kind, i, "name"), f"[[{kind}]] #{i + 1}: name must be a non-empty "
                        f'string; give it a unique name such as name = "{kind[0].upper()}1"')
             what = ck.label(kind, i, item.name)
             for key, rule in _NUMBERS[kind].items():
-                ck.number((kind, i, key), what, getattr(item, key), rule)
+                ck.number((kind, i, key), what, getattr(item, table.field_of(key)), rule)
     for i, c in enumerate(lay.circuits):
         what = ck.label("circuit", i, c.name)
         if c.system not in SYSTEMS:
@@ -131,9 +130,9 @@ def _stage_values(ck: _Checks) -> None:
 
 def _stage_duplicates(ck: _Checks) -> None:
     lay = ck.layout
-    for kind, attr in _KINDS.items():
+    for kind, table in TABLES.items():
         first: dict[object, int] = {}
-        for i, item in enumerate(getattr(lay, attr)):
+        for i, item in enumerate(getattr(lay, table.attr)):
             if item.name in first:
                 j = first[item.name]
                 at = f" (first at line {ck.lines.line(kind, j, 'name')})" if ck.lines else ""

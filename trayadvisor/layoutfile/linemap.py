@@ -1,49 +1,16 @@
-"""Where things are in a layout file: the one user-facing error and the TOML line map.
+"""Where things are in a layout file: the line of each table and key of the TOML text.
 
-``LayoutError`` is the one user-facing error of the layout reader: ``FILE:LINE: message``.
 ``LineMap`` remembers on which line each table and key of a format-1 file was written, so
 that a check on the model can point back at the text (tomllib gives no positions).
 """
 
 from __future__ import annotations
 
-import difflib
 import re
 import tomllib
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 
 KeyPath = tuple[str | int, ...]
-
-class LayoutError(Exception):
-    """One clean user-facing error. ``str(err) == f"{path}:{line}: {message}"``.
-
-    Parameters
-    ----------
-    path : str
-        The file name as the user gave it (or ``"<layout>"``).
-    line : int
-        1-based line number; 0 when no line applies (unreadable file, edited model).
-    message : str
-        What is wrong and how to fix it, one line.
-    """
-
-    def __init__(self, path: str, line: int, message: str) -> None:
-        message = "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in message)
-        super().__init__(path, line, message)
-        self.path = path
-        self.line = line
-        self.message = message  # control characters (e.g. in a name) escaped: one line
-
-    def __str__(self) -> str:
-        return f"{self.path}:{self.line}: {self.message}"
-
-
-def did_you_mean(word: object, choices: Iterable[str]) -> str:
-    """``"; did you mean 'x'?"`` for the closest choice, or ``""`` when none is close."""
-    if not isinstance(word, str):
-        return ""
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
-    return f"; did you mean '{close[0]}'?" if close else ""
 
 
 # -- line map -----------------------------------------------------------------------------

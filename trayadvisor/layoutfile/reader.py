@@ -1,88 +1,35 @@
-"""Layout file, format 1 (TOML): read with line numbers for errors, validate, write.
+"""Reading layout format 1 (TOML) with line numbers for every error.
 
-The reader turns TOML text into a :class:`~trayadvisor.model.Layout` and checks it; every
-problem is one :class:`LayoutError` whose text is ``FILE:LINE: what is wrong and how to fix
-it``. The writer produces text that reads back to an equal model, and saves atomically.
-The keys are documented in ``docs/file-format.md``.
+The reader turns TOML text into a :class:`~trayadvisor.model.Layout` and checks it
+(:func:`~trayadvisor.layoutfile.checks.validate_layout`); every problem is one
+:class:`~trayadvisor.layoutfile.errors.LayoutError` whose text is ``FILE:LINE: what is wrong
+and how to fix it``. The keys are in :mod:`trayadvisor.layoutfile.schema` and documented in
+``docs/file-format.md``.
 """
 
 from __future__ import annotations
 
-import contextlib
 import os
 import re
-import tempfile
 import tomllib
-from dataclasses import MISSING, fields
+from importlib import resources
+from pathlib import Path
 from typing import Any
 
-from trayadvisor.model import (
-    SYSTEMS,
-    Circuit,
-    Conductor,
-    Layout,
-    Limit,
-    ObservationLine,
-    ObservationPoint,
-    Tray,
-)
-from trayadvisor.layoutfile.checks import (
-    LayoutError,
-    LineMap,
-    did_you_mean,
-    layout_problems,
-    validate_layout,
-)
+from trayadvisor.layoutfile.checks import validate_layout
+from trayadvisor.layoutfile.errors import LayoutError, did_you_mean
+from trayadvisor.layoutfile.linemap import LineMap
+from trayadvisor.layoutfile.schema import EXAMPLES, FORMAT, TABLES, TOP, TOP_LEVEL_NAMES
+from trayadvisor.model import SYSTEMS, Layout
 
-__all__ = [
-    "FORMAT",
-    "LayoutError",
-    "LineMap",
-    "atomic_write_text",
-    "dumps_layout",
-    "layout_problems",
-    "parse_layout",
-    "read_layout",
-    "validate_layout",
-    "write_layout",
-]
-
-#: The value of the ``format`` key this module reads and writes.
-FORMAT = "trayadvisor/1"
-
-# Key schema per table: key -> (type, required). Order is the order the writer uses.
-# Types: "str", "num" (int or float, stored as float), "int", "bool", "harm" (inline table).
-_Schema = dict[str, tuple[str, bool]]
-_SCHEMA: dict[str, tuple[type, str, _Schema]] = {
-    "tray": (Tray, "trays", {
-        "name": ("str", True), "x_mm": ("num", True), "y_mm": ("num", True),
-        "width_mm": ("num", True), "depth_mm": ("num", True)}),
-    "circuit": (Circuit, "circuits", {
-        "name": ("str", True), "system": ("str", True), "current_a": ("num", False),
-        "angle_deg": ("num", False), "harmonics": ("harm", False),
-        "length_m": ("num", False)}),
-    "conductor": (Conductor, "conductors", {
-        "name": ("str", True), "circuit": ("str", True), "phase": ("str", True),
-        "x_mm": ("num", True), "y_mm": ("num", True), "diameter_mm": ("num", True),
-        "area_mm2": ("num", False), "material": ("str", False), "current_a": ("num", False),
-        "angle_deg": ("num", False), "fixed": ("bool", False), "tray": ("str", False)}),
-    "point": (ObservationPoint, "points", {
-        "name": ("str", True), "x_mm": ("num", True), "y_mm": ("num", True)}),
-    "line": (ObservationLine, "lines", {
-        "name": ("str", True), "x0_mm": ("num", True), "y0_mm": ("num", True),
-        "x1_mm": ("num", True), "y1_mm": ("num", True), "samples": ("int", False)}),
-    "limit": (Limit, "limits", {
-        "name": ("str", True), "ut": ("num", True), "source": ("str", False)}),
-}
-_TOP: _Schema = {"format": ("str", True), "title": ("str", False),
-                 "frequency_hz": ("num", False), "earth_y_mm": ("num", False)}
-_TOP_KEYS = (*_TOP, *_SCHEMA)
-_EXAMPLE = {"str": '"text"', "num": "1.0", "int": "101", "bool": "true",
-            "harm": "{ 3 = 0.05, 5 = 0.20 }"}
 _TOML_POS = re.compile(r"\s*\(at (?:line (\d+), column (\d+)|end of document)\)\s*$")
 
 
-# -- reading ------------------------------------------------------------------------------
+def demo_path() -> Path:
+    """Path of the built-in demo layout shipped in the package."""
+    return Path(str(resources.files("trayadvisor") / "data" / "demo.toml"))
+
+
 class _Bad(Exception):
     """A problem in one table, before the line is known: message and the key it is about."""
 
@@ -106,7 +53,7 @@ def _kind_of(value: Any) -> str:
 def _convert(value: Any, typ: str, key: str, what: str) -> Any:
     """A TOML value as the model stores it; raises :class:`_Bad` on a wrong type."""
     wrong = (f"{what}: {key} must be {_TYPE_WORD[typ]}, got {_kind_of(value)}; "
-             f"write for example {key} = {_EXAMPLE[typ]}")
+             f"write for example {key} = {EXAMPLES[typ]}")
     if typ == "str":
         if not isinstance(value, str):
             raise _Bad(wrong)
@@ -155,7 +102,8 @@ _TYPE_WORD = {"str": "a string in double quotes", "num": "a number",
 def _table(kind: str, i: int, raw: Any, lm: LineMap, errors: list[LayoutError],
            path: str) -> Any:
     """Build one model object from the i-th ``[[kind]]`` table; record its first error."""
-    cls, _, schema = _SCHEMA[kind]
+    table = TABLES[kind]
+    schema = table.keys
     name = raw.get("name") if isinstance(raw, dict) else None
     what = f"{kind} '{name}'" if isinstance(name, str) and name else f"[[{kind}]] #{i + 1}"
     if not isinstance(raw, dict):
@@ -166,7 +114,7 @@ def _table(kind: str, i: int, raw: Any, lm: LineMap, errors: list[LayoutError],
         for key in raw:
             if key not in schema:
                 hint = did_you_mean(key, schema)
-                if not hint and key in _TOP_KEYS:
+                if not hint and key in TOP_LEVEL_NAMES:
                     hint = (f"; top-level keys such as '{key}' must come before the first "
                             "[[table]] header")
                 hint = hint or f"; remove it (known keys: {', '.join(schema)})"
@@ -177,14 +125,14 @@ def _table(kind: str, i: int, raw: Any, lm: LineMap, errors: list[LayoutError],
         for key in schema:
             if key in required and key not in raw:
                 raise _Bad(f"{what}: missing key '{key}'; add {key} = "
-                           f"{_EXAMPLE[schema[key][0]]} to this table")
+                           f"{EXAMPLES[schema[key][0]]} to this table")
         kwargs = {}
         for key, value in raw.items():
             try:
-                kwargs[key] = _convert(value, schema[key][0], key, what)
+                kwargs[table.field_of(key)] = _convert(value, schema[key][0], key, what)
             except _Bad as exc:
                 raise _Bad(exc.message, key) from None
-        return cls(**kwargs)
+        return table.model(**kwargs)
     except _Bad as exc:
         line = lm.line(kind, i) if exc.key is None else lm.line(kind, i, exc.key)
         errors.append(LayoutError(path, line, exc.message))
@@ -248,24 +196,25 @@ def parse_layout(text: str, path: str = "<layout>") -> Layout:
     errors: list[LayoutError] = []
     top: dict[str, Any] = {}
     for key, value in doc.items():
-        if key not in _TOP_KEYS:
-            hint = did_you_mean(key, _TOP_KEYS) or f"; remove it (keys: {', '.join(_TOP_KEYS)})"
+        if key not in TOP_LEVEL_NAMES:
+            hint = (did_you_mean(key, TOP_LEVEL_NAMES)
+                    or f"; remove it (keys: {', '.join(TOP_LEVEL_NAMES)})")
             errors.append(LayoutError(path, lm.line(key), f"unknown top-level key '{key}'"
                                       f"{hint}"))
-        elif key in _TOP and key != "format":
+        elif key in TOP and key != "format":
             try:
-                top[key] = _convert(value, _TOP[key][0], key, "layout")
+                top[key] = _convert(value, TOP[key][0], key, "layout")
             except _Bad as exc:
                 errors.append(LayoutError(path, lm.line(key), exc.message))
     groups: dict[str, tuple[Any, ...]] = {}
-    for kind, (_, attr, _) in _SCHEMA.items():
+    for kind, table in TABLES.items():
         raw = doc.get(kind, [])
         if not isinstance(raw, list):
             shape = "a single [table]" if isinstance(raw, dict) else _kind_of(raw)
             errors.append(LayoutError(path, lm.line(kind), f"'{kind}' is {shape}; write each "
                                       f"{kind} as its own [[{kind}]] table (double brackets)"))
             continue
-        groups[attr] = tuple(_table(kind, i, t, lm, errors, path) for i, t in enumerate(raw))
+        groups[table.attr] = tuple(_table(kind, i, t, lm, errors, path) for i, t in enumerate(raw))
     if errors:
         raise min(errors, key=lambda e: e.line)
     layout = Layout(**top, **groups)
@@ -301,108 +250,3 @@ def read_layout(path: str | os.PathLike[str]) -> Layout:
         raise LayoutError(name, line, f"the file is not UTF-8 text (byte 0x{data[exc.start]:02X}"
                           f" at column {col}); save it with UTF-8 encoding") from None
     return parse_layout(text, name)
-
-
-# -- writing ------------------------------------------------------------------------------
-_ESCAPES = {'"': '\\"', "\\": "\\\\", "\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f",
-            "\r": "\\r"}
-
-
-def _toml_str(text: str) -> str:
-    """A TOML basic string; control characters escaped (TOML 1.0, section String)."""
-    out = []
-    for ch in text:
-        if ch in _ESCAPES:
-            out.append(_ESCAPES[ch])
-        elif ord(ch) < 0x20 or ord(ch) == 0x7F:
-            out.append(f"\\u{ord(ch):04X}")
-        else:
-            out.append(ch)
-    return '"' + "".join(out) + '"'
-
-
-def _toml_value(value: Any, typ: str) -> str:
-    if typ == "str":
-        return _toml_str(value)
-    if typ == "bool":
-        return "true" if value else "false"
-    if typ == "int":
-        return str(int(value))
-    if typ == "num":
-        return repr(float(value))  # shortest text that reads back to the same float
-    return "{ " + ", ".join(f"{int(h)} = {float(f)!r}" for h, f in value) + " }"
-
-
-def _defaults(cls: type) -> dict[str, Any]:
-    return {f.name: f.default for f in fields(cls) if f.default is not MISSING}
-
-
-def dumps_layout(layout: Layout) -> str:
-    """Format-1 TOML text of a layout; :func:`parse_layout` reads it back to an equal model.
-
-    Keys are written in the order of docs/file-format.md; optional keys only when they
-    differ from their default.
-    """
-    out = ["# trayadvisor layout. Units: mm, A RMS, degrees, Hz. Keys: docs/file-format.md",
-           f"format = {_toml_str(FORMAT)}"]
-    if layout.title:
-        out.append(f"title = {_toml_str(layout.title)}")
-    out.append(f"frequency_hz = {_toml_value(layout.frequency_hz, 'num')}")
-    if layout.earth_y_mm is not None:
-        out.append(f"earth_y_mm = {_toml_value(layout.earth_y_mm, 'num')}")
-    for kind, (cls, attr, schema) in _SCHEMA.items():
-        defaults = _defaults(cls)
-        for obj in getattr(layout, attr):
-            out += ["", f"[[{kind}]]"]
-            for key, (typ, required) in schema.items():
-                value = getattr(obj, key)
-                keep = required or (kind == "circuit" and key == "current_a"
-                                    and obj.system != "signal")
-                if not keep and (value is None or (key in defaults and value == defaults[key])):
-                    continue
-                out.append(f"{key} = {_toml_value(value, typ)}")
-    return "\n".join(out) + "\n"
-
-
-def _umask() -> int:
-    with contextlib.suppress(OSError, ValueError), open("/proc/self/status") as fh:
-        for row in fh:
-            if row.startswith("Umask:"):
-                return int(row.split()[1], 8)
-    return 0o022
-
-
-def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
-    """Write UTF-8 text to ``path`` atomically: a temp file in the same folder, then
-    ``os.replace``. An existing file keeps its permissions; on error it is left untouched
-    and the temp file is removed.
-
-    Raises
-    ------
-    OSError
-        When the folder is not writable, the disk is full, ...
-    """
-    target = os.path.realpath(os.fsdecode(path))  # write through a symlink, keep the link
-    folder, base = os.path.split(target)
-    try:
-        mode = os.stat(target).st_mode & 0o7777
-    except OSError:
-        mode = 0o666 & ~_umask()
-    fd, tmp = tempfile.mkstemp(prefix=f".{base}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, mode)
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
-
-
-def write_layout(layout: Layout, path: str | os.PathLike[str]) -> None:
-    """Save a layout as format 1, atomically. The layout is not validated here: call
-    :func:`validate_layout` first when only valid files may be written."""
-    atomic_write_text(path, dumps_layout(layout))

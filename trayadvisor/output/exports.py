@@ -3,7 +3,7 @@
 - CSV: one row per option and conductor (``rank, max_resultant_uT, reduction_pct,
   reduction_db, far_field_order, <figure keys>, conductor, circuit, phase, x_mm, y_mm,
   moved``), floats in full precision, so a spreadsheet can filter one option or pivot.
-- JSON: the ``rank --json`` object (:meth:`trayadvisor.ranking.rank.RankResult.to_json`).
+- JSON: the ``rank --json`` object (:meth:`trayadvisor.ranking.RankResult.to_json`).
 - Markdown: a summary, a table of options, and for each option its sketch and positions.
 
 The file's extension picks the format (:data:`FORMATS`).
@@ -17,10 +17,11 @@ import math
 import os
 from pathlib import Path
 
+from trayadvisor.layoutfile import atomic_write_text
+from trayadvisor.model import Layout
 from trayadvisor.output.cautions import CAUTIONS
 from trayadvisor.output.jsontext import dumps
-from trayadvisor.model import Layout
-from trayadvisor.ranking.rank import RankResult
+from trayadvisor.ranking import RankResult
 
 #: Extension → format.
 FORMATS: dict[str, str] = {".csv": "csv", ".json": "json", ".md": "markdown",
@@ -147,8 +148,6 @@ def write_result(result: RankResult, path: str | os.PathLike[str],
     Returns the format written. Raises :class:`ExportError` for an unknown extension and
     ``OSError`` when the file cannot be written (an existing file is then left as it was).
     """
-    from trayadvisor.layoutfile.reader import atomic_write_text
-
     fmt = export_format(path)
     atomic_write_text(path, export_text(result, fmt, layout, title))
     return fmt

@@ -16,10 +16,10 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from trayadvisor.analysis.summary import FieldSummary
-from trayadvisor.engine.contour import offset_points
+from trayadvisor.analysis import FieldSummary
+from trayadvisor.engine import offset_points
+from trayadvisor.engine.units import MM
 from trayadvisor.model import Layout
-from trayadvisor.engine.currents import MM
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -191,11 +191,11 @@ def profile_svg(layout: Layout, summary: FieldSummary, prefix: str) -> str:
     """Resultant field along the distance-d curve, sides marked, maximum marked."""
     fig = new_figure(7.5, 2.8)
     ax = fig.add_subplot()
-    s_m = summary.profile_s_mm / 1000.0
+    s_m = summary.profile_s_mm * MM
     ax.plot(s_m, summary.profile_uT, color="#1f77b4", linewidth=1.0)
     ex0, ey0, ex1, ey1 = layout.envelope_mm()
     w, h, q = ex1 - ex0, ey1 - ey0, 0.5 * math.pi * summary.distance_mm
-    edges = np.cumsum([0.0, w, q, h, q, w, q, h, q]) / 1000.0
+    edges = np.cumsum([0.0, w, q, h, q, w, q, h, q]) * MM
     for e in edges[1:-1]:
         ax.axvline(e, color="0.85", linewidth=0.6)
     for i, name in enumerate(("below", "right", "above", "left")):
@@ -221,7 +221,7 @@ def distance_svg(distance_mm: np.ndarray, stray_uT: np.ndarray, summary: FieldSu
     """Stray field against distance (log-log) with limits, clearances and far-field slope."""
     fig = new_figure(7.5, 4.2)
     ax = fig.add_subplot()
-    d_m = np.asarray(distance_mm) / 1000.0
+    d_m = np.asarray(distance_mm) * MM
     b = np.asarray(stray_uT)
     ok = b > 0
     lo, hi = (float(b[ok].min()), float(b[ok].max())) if ok.any() else (1e-2, 1.0)
@@ -241,17 +241,17 @@ def distance_svg(distance_mm: np.ndarray, stray_uT: np.ndarray, summary: FieldSu
         ax.plot(far, c1 / far**n, color="0.4", linestyle="--", linewidth=0.9,
                   label=f"far field {c1:.3g} µT·m{_sup(n)}/r{_sup(n)} (slope −{n})")
     if summary.max_resultant_uT > 0 and summary.distance_mm > 0:
-        ax.plot(summary.distance_mm / 1000.0, summary.max_resultant_uT, marker="o",
+        ax.plot(summary.distance_mm * MM, summary.max_resultant_uT, marker="o",
                 color="black", linestyle="none", markersize=4,
                 label=f"d = {summary.distance_mm:g} mm")
-    shown = [(i, lim) for i, lim in enumerate(summary.limits) if lo / 30 <= lim.ut <= hi * 30]
+    shown = [(i, lim) for i, lim in enumerate(summary.limits) if lo / 30 <= lim.limit_uT <= hi * 30]
     groups: dict[float, list[str]] = {}
     for i, lim in shown:
         col = _PALETTE[(i + 1) % len(_PALETTE)]
-        ax.axhline(lim.ut, color=col, linewidth=0.7)
-        groups.setdefault(float(f"{lim.ut:.4g}"), []).append(lim.name)
+        ax.axhline(lim.limit_uT, color=col, linewidth=0.7)
+        groups.setdefault(float(f"{lim.limit_uT:.4g}"), []).append(lim.name)
         if math.isfinite(lim.clearance_mm) and lim.clearance_mm > 0:
-            ax.plot(lim.clearance_mm / 1000.0, lim.ut, marker="v", color=col, markersize=5)
+            ax.plot(lim.clearance_mm * MM, lim.limit_uT, marker="v", color=col, markersize=5)
     top = max([hi * 3] + [2 * v for v in groups])
     bottom = min([max(lo / 3, 1e-6)] + [v / 2 for v in groups])
     for v, y in spread_labels(sorted(groups), math.log10(top / bottom) / 28):

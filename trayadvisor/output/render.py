@@ -1,4 +1,4 @@
-"""Rendering a computed report (:class:`trayadvisor.output.report.ReportContent`) to text.
+"""Rendering a computed report (:class:`trayadvisor.output.content.ReportContent`) to text.
 
 HTML output is one self-contained, well-formed (XHTML-compatible) document: inline style,
 inline SVG, no scripts to run and nothing fetched from a network. Markdown output refers to
@@ -12,8 +12,8 @@ import re
 from collections.abc import Sequence
 
 from trayadvisor import __version__
-from trayadvisor.output.report import (
-    CAUTIONS,
+from trayadvisor.output.cautions import CAUTIONS
+from trayadvisor.output.content import (
     LIMITS_NOTE,
     RANK_HEADER,
     Cell,

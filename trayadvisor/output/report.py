@@ -1,312 +1,26 @@
 """Self-contained reports: HTML with inline SVG pictures, or Markdown with the SVGs beside it.
 
-Every number in a report comes from the same core calls the CLI makes
-(:func:`trayadvisor.analysis.summary.field_summary`, :func:`trayadvisor.analysis.summary.stray_uT`, the
-ranking and coupling summaries), so a report and ``field --json`` / ``rank --json`` agree.
-The figures are also embedded as JSON (``<script type="application/json">`` in HTML, a fenced
-block in Markdown) for scripts that read reports.
+:func:`write_report` computes the content (:mod:`trayadvisor.output.content`), renders it
+(:mod:`trayadvisor.output.render`) and writes every file atomically.
 """
 
 from __future__ import annotations
 
-import math
 import os
-from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
-
-from trayadvisor import __version__
-from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM, FieldSummary, field_grid_uT, field_summary
-from trayadvisor.analysis.summary import stray_uT as stray_at
-from trayadvisor.output.cautions import CAUTIONS
-from trayadvisor.output.jsontext import dumps
-from trayadvisor.layoutfile.reader import atomic_write_text, dumps_layout
-from trayadvisor.limits import LibraryLimit, find, library_at, library_source
+from trayadvisor.engine import DEFAULT_DISTANCE_MM
+from trayadvisor.layoutfile import atomic_write_text
 from trayadvisor.model import Layout
-from trayadvisor.engine.currents import sources
-from trayadvisor.output.wording import decay_text
+from trayadvisor.output.content import build_report
+from trayadvisor.output.render import render_html, render_markdown
 
-#: SPEC.md "Cautions", in full; every report shows them.
-LIMITS_NOTE = (
-    "Library levels are compared at the system frequency. A field with harmonics (or a DC "
-    "component) strictly needs the multi-frequency assessment the documents describe; the "
-    "resultant RMS field combines all components. Values marked 'recalled' were not checked "
-    "against the cited document: check them against your own copy."
-)
+#: Report file extensions and the format each one picks.
 FORMATS = {".html": "html", ".htm": "html", ".md": "md", ".markdown": "md"}
 
 
 class ReportError(ValueError):
     """A report cannot be written as asked (unknown extension, ...)."""
-
-
-@dataclass(frozen=True)
-class Picture:
-    key: str
-    caption: str
-    svg: str
-
-
-@dataclass
-class ReportContent:
-    """Everything a report shows, computed once; rendered to HTML or Markdown."""
-
-    layout: Layout
-    title: str
-    source_name: str
-    source_text: str
-    source_is_file: bool
-    summary: FieldSummary
-    field_json: dict
-    library: tuple[tuple[LibraryLimit, float], ...]
-    sweep_mm: np.ndarray
-    sweep_uT: np.ndarray
-    rank_json: dict | None = None
-    rank_note: str = ""
-    coupling_json: dict | None = None
-    coupling_note: str = ""
-    pictures: list[Picture] = field(default_factory=list)
-
-    def limit_notes(self) -> list[str]:
-        """Notes for the limits section that depend on this layout."""
-        dc = [c.name for c in self.layout.circuits if c.system == "dc"]
-        if not dc:
-            return []
-        return [f"DC circuit(s) {', '.join(dc)} add a static field to the resultant shown; the "
-                "levels listed are for power-frequency fields (static fields have their own "
-                "guidance)."]
-
-    def figures_json(self) -> dict:
-        """The machine-readable block: field (as ``field --json``), rank, couple."""
-        return {"trayadvisor": __version__, "field": self.field_json, "rank": self.rank_json,
-                "couple": self.coupling_json}
-
-
-def _rank_json(layout: Layout, distance_mm: float, top: int) -> tuple[dict | None, str]:
-    from trayadvisor.ranking.rank import rank_layout
-
-    return rank_layout(layout, distance_mm=distance_mm, top_k=top).to_json(), ""
-
-
-def _coupling_json(layout: Layout) -> tuple[dict | None, str]:
-    from trayadvisor.coupling.victims import coupling_summary
-
-    return coupling_summary(layout).to_json(), ""
-
-
-def sweep_distances(summary: FieldSummary) -> np.ndarray:
-    """Distances (mm) for the stray-field-against-distance curve: 10 mm to past the
-    largest finite clearance (at least 10 m, at most 100 m)."""
-    clear = [lim.clearance_mm for lim in summary.limits if math.isfinite(lim.clearance_mm)]
-    end = max([1e4, 4 * summary.distance_mm] + [2 * c for c in clear])
-    return np.geomspace(10.0, min(end, 1e5), 40)
-
-
-def contour_bounds(layout: Layout, distance_mm: float) -> tuple[float, float, float, float]:
-    """The field map's extent (mm): the curve at d with a margin, and the named points and
-    lines."""
-    x0, y0, x1, y1 = layout.envelope_mm()
-    m = max(150.0, 1.4 * distance_mm + 0.1 * max(x1 - x0, y1 - y0))
-    xs = [x0 - m, x1 + m] + [p.x_mm for p in layout.points]
-    ys = [y0 - m, y1 + m] + [p.y_mm for p in layout.points]
-    for ln in layout.lines:
-        xs += [ln.x0_mm, ln.x1_mm]
-        ys += [ln.y0_mm, ln.y1_mm]
-    pad = 0.05 * m
-    return (min(xs) - pad, min(ys) - pad, max(xs) + pad, max(ys) + pad)
-
-
-def build_report(layout: Layout, *, source_text: str | None = None, source_name: str = "",
-                 distance_mm: float = DEFAULT_DISTANCE_MM, top: int = 6, rank: bool = True,
-                 coupling: bool = True, pictures: bool = True) -> ReportContent:
-    """Compute every figure and picture of the report for ``layout``."""
-    from trayadvisor.output import pictures as rf
-
-    f = float(layout.frequency_hz)
-    library = library_at(f)
-    summary = field_summary(layout, distance_mm,
-                            limits=[(lim.name, ut, library_source(lim)) for lim, ut in library])
-    src = sources(layout)
-    d = sweep_distances(summary)
-    b = np.array([stray_at(layout, float(x), src) for x in d])
-    content = ReportContent(
-        layout=layout, title=layout.title or "(untitled layout)",
-        source_name=source_name or "layout", source_is_file=source_text is not None,
-        source_text=source_text if source_text is not None else dumps_layout(layout),
-        summary=summary, field_json=summary.to_json(), library=library, sweep_mm=d,
-        sweep_uT=b)
-    if rank:
-        content.rank_json, content.rank_note = _rank_json(layout, distance_mm, top)
-    else:
-        content.rank_note = "Ranking was not run for this report."
-    if coupling:
-        content.coupling_json, content.coupling_note = _coupling_json(layout)
-    if not pictures:
-        return content
-    bounds = contour_bounds(layout, distance_mm)
-    bw, bh = bounds[2] - bounds[0], bounds[3] - bounds[1]
-    nx = 220 if bw >= bh else max(60, int(220 * bw / bh))
-    ny = max(60, int(nx * bh / bw))
-    grid = field_grid_uT(layout, bounds, nx, ny, src)
-    pics = content.pictures
-    pics.append(Picture("section", "Cross-section to scale: trays, conductors by circuit, "
-                        "phase written in each conductor.", rf.section_svg(layout, "fig1")))
-    pics.append(Picture("contours", "Resultant RMS field around the trays: iso-µT lines in "
-                        "1-2-5 steps; dashed, the curve at distance d and its maximum.",
-                        rf.contours_svg(layout, summary, grid, bounds, "fig2")))
-    pics.append(Picture("profile", "Resultant RMS field along the curve at distance d.",
-                        rf.profile_svg(layout, summary, "fig3")))
-    pics.append(Picture("distance", "Stray field against distance (log-log), with the limits, "
-                        "their clearances (triangles) and the far-field slope.",
-                        rf.distance_svg(d, b, summary, "fig4")))
-    options = option_layouts(content)
-    if options:
-        pics.append(Picture("options", "Ranked options as small multiples, the current "
-                            "arrangement first.", rf.options_svg(options, "fig5")))
-    return content
-
-
-def option_layouts(content: ReportContent) -> list[tuple[str, Layout]]:
-    """(title, layout) of the current arrangement and each ranked option."""
-    if not content.rank_json or not content.rank_json.get("options"):
-        return []
-    base = content.rank_json.get("baseline_uT", content.summary.max_resultant_uT)
-    out = [(f"current  {base:.4g} µT", content.layout)]
-    for opt in content.rank_json["options"]:
-        pos = {c["name"]: (c["x_mm"], c["y_mm"]) for c in opt["conductors"]}
-        out.append((f"#{opt['rank']}  {opt['max_resultant_uT']:.4g} µT",
-                    content.layout.with_positions(pos)))
-    return out
-
-
-# -- tables shared by both renderings ----------------------------------------------------
-Cell = tuple[str, float | None]  # shown text, exact value (for data-value / checks)
-
-
-def num(v: float | None, sig: int = 4) -> str:
-    if v is None:
-        return "-"
-    if isinstance(v, float) and not math.isfinite(v):
-        return "inf"
-    if 10**sig <= abs(v) < 1e12:
-        return f"{v:.0f}"
-    return f"{v:.{sig}g}"
-
-
-def _cell(v: float | None) -> Cell:
-    return (num(v), None if v is None else float(v))
-
-
-def summary_rows(c: ReportContent) -> list[list[Cell | str]]:
-    s = c.summary
-    rows: list[list[Cell | str]] = [
-        [f"stray field at d = {s.distance_mm:g} mm (resultant RMS, µT)",
-         _cell(s.max_resultant_uT)],
-        ["where it peaks, x (mm)", _cell(s.max_at_mm[0])],
-        ["where it peaks, y (mm)", _cell(s.max_at_mm[1])],
-        ["far-field decay", decay_text(s.far_field_order)],
-        ["far-field leading term at 1 m (µT)", _cell(s.far_field_uT_at_1m)],
-    ]
-    for p in (*s.points, *s.named_points):
-        rows.append([f"point {p.name} ({p.x_mm:g}, {p.y_mm:g}) mm: resultant / max (µT)",
-                     _cell(p.resultant_uT), _cell(p.max_uT)])
-    for ln in s.lines:
-        rows.append([f"line {ln.name}: largest resultant / max (µT), at ({ln.max_at_mm[0]:.0f},"
-                     f" {ln.max_at_mm[1]:.0f}) mm", _cell(ln.max_resultant_uT),
-                     _cell(ln.max_uT)])
-    return rows
-
-
-def limit_rows(c: ReportContent) -> list[list[Cell | str]]:
-    rows: list[list[Cell | str]] = []
-    for lim in c.summary.limits:
-        try:
-            lib = find(lim.name)
-            checked = "checked" if lib.checked else "RECALLED"
-            source = lib.source
-        except KeyError:
-            checked, source = "layout", lim.source
-        clr = ("beyond 100 m", None) if math.isinf(lim.clearance_mm) else _cell(lim.clearance_mm)
-        if lim.clearance_mm == 0:
-            clr = ("0 (below it at the envelope)", 0.0)
-        rows.append([lim.name, _cell(lim.ut), source, checked, clr,
-                     "pass" if lim.passes else "FAIL"])
-    return rows
-
-
-RANK_HEADER = ["option", "max resultant at d (µT)", "reduction (%)", "reduction (dB)",
-               "far-field order"]
-
-
-def rank_rows(c: ReportContent) -> list[list[Cell | str]]:
-    """The current arrangement, then each option, with the ranking's own figures."""
-    r = c.rank_json or {}
-    base = r.get("baseline_uT", c.summary.max_resultant_uT)
-    rows: list[list[Cell | str]] = [["current", _cell(base), "0", "0",
-                                     str(c.summary.far_field_order)]]
-    for opt in r.get("options", []):
-        rows.append([f"#{opt['rank']}", _cell(opt["max_resultant_uT"]),
-                     num(opt.get("reduction_pct"), 3), num(opt.get("reduction_db"), 3),
-                     str(opt.get("far_field_order"))])
-    return rows
-
-
-def _scalar(v: object) -> Cell | str:
-    if isinstance(v, bool) or v is None:
-        return {True: "yes", False: "no", None: "-"}[v]
-    if isinstance(v, int | float):
-        return _cell(v)
-    if isinstance(v, list) and all(not isinstance(x, dict | list) for x in v):
-        return ", ".join(str(x) for x in v)
-    return str(v)
-
-
-def json_tables(data: dict | None) -> list[tuple[str, list[str], list[list[Cell | str]]]]:
-    """The tables of a JSON result (e.g. ``couple --json``) as (title, header, rows).
-
-    A non-empty list of objects is a table; a list of objects inside its rows (victim
-    harmonics) becomes its own table keyed by the row's first column; a square matrix with a
-    matching list of names (``mutual_uH_per_m`` with ``loops``) becomes a labelled matrix.
-    """
-    out: list[tuple[str, list[str], list[list[Cell | str]]]] = []
-    data = data or {}
-    for key, value in data.items():
-        if isinstance(value, list) and value and all(isinstance(r, dict) for r in value):
-            keys = list(dict.fromkeys(k for r in value for k in r))
-            nested = [k for k in keys if any(isinstance(r.get(k), list) and r.get(k)
-                                             and isinstance(r[k][0], dict) for r in value)]
-            header = [k for k in keys if k not in nested]
-            out.append((key, header, [[_scalar(r.get(k)) for k in header] for r in value]))
-            for sub in nested:
-                sub_keys = list(dict.fromkeys(k for r in value for x in r.get(sub) or []
-                                              for k in x))
-                rows = [[_scalar(r.get(header[0]))] + [_scalar(x.get(k)) for k in sub_keys]
-                        for r in value for x in r.get(sub) or []]
-                out.append((f"{key}: {sub}", [header[0], *sub_keys], rows))
-        elif (isinstance(value, list) and value and all(isinstance(r, list) for r in value)
-              and key.endswith("_per_m") and len(data.get("loops", [])) == len(value)):
-            names = [str(n) for n in data["loops"]]
-            rows = [[n] + [_scalar(x) for x in r] for n, r in zip(names, value, strict=True)]
-            out.append((key, ["", *names], rows))
-    return out
-
-
-def json_notes(data: dict | None) -> list[str]:
-    """The ``notes`` of a JSON result, plus its top-level scalar keys as 'key: value'."""
-    data = data or {}
-    notes = [str(n) for n in data.get("notes", []) if isinstance(n, str)]
-    for key, value in data.items():
-        if key != "notes" and (value is None or isinstance(value, bool | int | float | str)):
-            shown = _scalar(value) if isinstance(value, bool) or value is None else value
-            notes.append(f"{key}: {shown}")
-    return notes
-
-
-def embedded_json(content: ReportContent) -> str:
-    """The figures as JSON safe inside <script> and XML (no raw <, > or &)."""
-    text = dumps(content.figures_json(), indent=1)
-    return text.replace("&", "\\u0026").replace("<", "\\u003c").replace(">", "\\u003e")
 
 
 def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: str | None = None,
@@ -334,8 +48,6 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
     ReportError
         For an extension that is neither HTML nor Markdown (nothing is written).
     """
-    from trayadvisor.output.render import render_html, render_markdown
-
     target = Path(path)
     kind = FORMATS.get(target.suffix.lower())
     if kind is None:
@@ -353,7 +65,3 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
         written.append(svg_path)
     atomic_write_text(target, render_markdown(content, names))
     return [*written, target]
-
-
-__all__ = ["CAUTIONS", "FORMATS", "LIMITS_NOTE", "Picture", "ReportContent", "ReportError",
-           "build_report", "json_notes", "json_tables", "write_report"]

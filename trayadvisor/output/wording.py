@@ -6,8 +6,6 @@ Shared by the CLI, the terminal UI and the reports so that they print the same t
 from __future__ import annotations
 
 import math
-from importlib import resources
-from pathlib import Path
 
 #: Far-field decay orders in words.
 DECAY_WORDS: dict[int, str] = {1: "1/r (net current)", 2: "1/r² (dipole)",
@@ -24,7 +22,7 @@ def decay_text(order: int | None, short: bool = False, none: str = "no field") -
     return f"1/r^{order}"
 
 
-def fmt_ut(v: float) -> str:
+def fmt_uT(v: float) -> str:
     """µT with sensible significant figures."""
     if not math.isfinite(v):
         return "inf"
@@ -42,8 +40,3 @@ def fmt_mm(v: float) -> str:
     if not math.isfinite(v):
         return "beyond 100 m"
     return f"{v:.0f} mm"
-
-
-def demo_path() -> Path:
-    """Path of the built-in demo layout shipped in the package."""
-    return Path(str(resources.files("trayadvisor") / "data" / "demo.toml"))

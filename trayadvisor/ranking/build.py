@@ -6,16 +6,17 @@ from collections import Counter
 
 import numpy as np
 
+from trayadvisor.engine import layout_sources
 from trayadvisor.model import REQUIRED_PHASES, Layout
-from trayadvisor.ranking.slots import SLOT_RULES, RankError, slot_grid
+from trayadvisor.ranking.errors import RankError
+from trayadvisor.ranking.slots import SLOT_RULES, slot_grid
 from trayadvisor.ranking.space import TOL_MM, Group, Kind, Space
-from trayadvisor.engine.currents import sources
 
 
 # -- building the space ---------------------------------------------------------------------
 def _kinds_of(layout: Layout, movable: list[int], identity: bool
               ) -> tuple[list[Kind], dict[int, int]]:
-    src = sources(layout)
+    src = layout_sources(layout)
     cur = src.currents  # (H, n)
     scale = max(float(np.abs(cur).max()) if cur.size else 0.0, 1e-30)
     groups: dict[tuple, list[int]] = {}
@@ -80,8 +81,8 @@ def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = Fal
         the layers (y, then x) instead of across them (x, then y, which keeps trefoils).
     """
     if slots is not None and slots not in SLOT_RULES:
-        raise RankError(f"--slots {slots}: unknown laying rule; use one of "
-                        f"{', '.join(SLOT_RULES)}")
+        raise RankError(f"unknown laying rule; use one of {', '.join(SLOT_RULES)}",
+                        "slots", slots)
     cons = layout.conductors
     movable = [i for i, c in enumerate(cons) if not c.fixed]
     fixed = tuple(i for i, c in enumerate(cons) if c.fixed)
@@ -108,18 +109,18 @@ def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = Fal
         if bundles:
             sizes = {len(s) for s in sets}
             if free or len(sizes) != 1:
-                raise RankError(f"--slots {slots} --bundles: every movable conductor must "
-                                "belong to a complete parallel set, all sets of one size; "
-                                "drop --bundles or mark the others fixed = true")
+                raise RankError("with bundles, every movable conductor must belong to a "
+                                "complete parallel set, all sets of one size; rank without "
+                                "bundles or mark the others fixed = true", "slots", slots)
             group_size = sizes.pop()
             if slots == "trefoil" and group_size != 3:
-                raise RankError(f"--slots trefoil --bundles: a trefoil holds 3 conductors "
-                                f"but the sets have {group_size}; use --slots touching")
+                raise RankError(f"with bundles: a trefoil holds 3 conductors but the sets "
+                                f"have {group_size}; use the touching rule", "slots", slots)
         grid, slot_groups = slot_grid(layout, slots, movable, group_size)
         if bundles:
             if len(sets) > len(slot_groups):
-                raise RankError(f"--slots {slots}: only {len(slot_groups)} group(s) fit for "
-                                f"{len(sets)} set(s); use a wider tray or another rule")
+                raise RankError(f"only {len(slot_groups)} group(s) fit for {len(sets)} "
+                                "set(s); use a wider tray or another rule", "slots", slots)
             free_pos, free_d = [], []
             groups_xy = [[(float(grid[j, 0]), float(grid[j, 1])) for j in g]
                          for g in slot_groups]
@@ -127,9 +128,9 @@ def build_space(layout: Layout, *, slots: str | None = None, bundles: bool = Fal
             spare_groups = len(slot_groups) - len(sets)
         else:
             if len(grid) < len(movable):
-                raise RankError(f"--slots {slots}: the slot grid holds {len(grid)} "
-                                f"positions for {len(movable)} movable conductors; use a "
-                                "wider tray or a denser rule")
+                raise RankError(f"the slot grid holds {len(grid)} positions for "
+                                f"{len(movable)} movable conductors; use a wider tray or a "
+                                "denser rule", "slots", slots)
             free_pos = [(float(x), float(y)) for x, y in grid]
             free_d = [cons[movable[0]].diameter_mm] * len(grid)
             groups_xy, set_members, spare_groups = [], [], 0
@@ -240,123 +241,3 @@ def _baseline(space: Space, layout: Layout, kind_of: dict[int, int],
         c = layout.conductors[i]
         a[keys[Space._place(c.x_mm, c.y_mm)]] = kind_of[i]
     return a
-
-
-def _q(v: float) -> int:
-    return round(float(v) / (10 * TOL_MM))
-
-
-def find_mirror(space: Space, layout: Layout, axis_x_mm: float, identity: bool = False
-                ) -> np.ndarray | None:
-    """Position permutation reflecting about x = ``axis_x_mm``, if the problem allows it.
-
-    The reflection must map candidate positions onto positions of the same diameter, every
-    free cell onto itself, every group onto a group of the same shape, and every fixed
-    conductor onto a fixed conductor of the same diameter and currents. (The objective's
-    own symmetry is the caller's check.) Returns None when any of these fails.
-    """
-    pos, dia = space.positions_mm, space.diameters_mm
-    keys = {(_q(x), _q(y), _q(d)): j for j, ((x, y), d) in enumerate(zip(pos, dia, strict=True))}
-    mir = np.array([keys.get((_q(2 * axis_x_mm - x), _q(y), _q(d)), -1)
-                    for (x, y), d in zip(pos, dia, strict=True)], dtype=np.int64)
-    if mir.size and mir.min() < 0:
-        return None
-    owner = np.full(space.n_positions, -1)
-    for g, grp in enumerate(space.groups):
-        owner[grp.start:grp.stop] = g
-    for s, e, _ in space.free_cells:
-        if set(mir[s:e].tolist()) != set(range(s, e)):
-            return None
-    for grp in space.groups:
-        targets = set(owner[mir[grp.start:grp.stop]].tolist())
-        if len(targets) != 1 or -1 in targets or \
-                space.groups[targets.pop()].shape != grp.shape:
-            return None
-    cons = layout.conductors
-    cur = sources(layout).currents
-    scale = max(float(np.abs(cur).max()) if cur.size else 0.0, 1e-30)
-    fixed = {}
-    for i in space.fixed:
-        c = cons[i]
-        q = np.round(cur[:, i] / scale * 1e9)
-        fixed[(_q(c.x_mm), _q(c.y_mm))] = (_q(c.diameter_mm), tuple(q.real), tuple(q.imag),
-                                           c.circuit if identity else "")
-    for i in space.fixed:
-        c = cons[i]
-        if fixed.get((_q(2 * axis_x_mm - c.x_mm), _q(c.y_mm))) != \
-                fixed[(_q(c.x_mm), _q(c.y_mm))]:
-            return None
-    return mir
-
-
-def phase_symmetries(space: Space, layout: Layout, conjugate: bool = True
-                     ) -> list[np.ndarray]:
-    """Kind relabellings that leave every resultant unchanged.
-
-    Candidates multiply the current of frequency component h by ``s·ω^(h r)`` (ω = e^(−j2π/3):
-    phase rotation L1→L2→L3 for r = 1, 2; s = −1: reversed polarity) and optionally conjugate
-    it (swaps L2 and L3). Such a global factor per component leaves |B_h| — hence the
-    resultant, and any induced voltage — unchanged. A candidate is kept when it maps every
-    kind onto a kind (same diameter and identity), keeps every cell's and set type's counts,
-    and leaves the fixed conductors' currents as they are.
-
-    Returns
-    -------
-    list of (K,) int kind maps (identity excluded).
-    """
-    src = sources(layout)
-    orders = src.orders.astype(float)
-    cur = space.kind_currents()  # (H, K)
-    scale = max(float(np.abs(src.currents).max()) if src.currents.size else 0.0, 1e-30)
-    tol = 1e-7 * scale
-    kinds = space.kinds
-    same = np.array([[_q(a.diameter_mm) == _q(b.diameter_mm) and a.identity == b.identity
-                      and a.empty == b.empty for b in kinds] for a in kinds])
-    fixed = src.currents[:, list(space.fixed)]
-    omega = np.exp(-2j * np.pi / 3)
-    out: list[np.ndarray] = []
-    combos = [(r, conj, ac, dc) for r in (0, 1, 2) for conj in
-              ((False, True) if conjugate else (False,)) for ac in (1.0, -1.0)
-              for dc in (1.0, -1.0)]
-    for r, conj, ac, dc in combos[1:]:
-        fac = np.where(orders == 0, dc, ac * omega ** (orders * r))[:, None]
-        t = fac * (np.conj(cur) if conj else cur)
-        dist = np.abs(t[:, :, None] - cur[:, None, :]).max(axis=0)  # (K from, K to)
-        match = (dist <= tol) & same
-        if not match.any(axis=1).all():
-            continue
-        kmap = np.argmax(match, axis=1)
-        if len(set(kmap.tolist())) != kmap.size:
-            continue
-        if fixed.size:
-            tf = fac * (np.conj(fixed) if conj else fixed)
-            if np.abs(tf - fixed).max() > tol:
-                continue
-        if _keeps_counts(space, kmap) and not np.array_equal(kmap, np.arange(kmap.size)) \
-                and not any(np.array_equal(kmap, m) for m in out):
-            out.append(kmap)
-    return out
-
-
-def _keeps_counts(space: Space, kmap: np.ndarray) -> bool:
-    for _, _, counts in space.free_cells:
-        moved = np.zeros_like(counts)
-        moved[kmap] = counts
-        if not np.array_equal(moved, counts):
-            return False
-    types = {tuple(row.tolist()): int(n) for row, n in zip(space.set_types, space.type_counts,
-                                                           strict=True)}
-    for row, n in zip(space.set_types, space.type_counts, strict=True):
-        moved = np.zeros_like(row)
-        moved[kmap] = row
-        if types.get(tuple(moved.tolist())) != int(n):
-            return False
-    return True
-
-
-def symmetry_group(mirror: np.ndarray | None, kmaps: list[np.ndarray]
-                   ) -> list[tuple[np.ndarray | None, np.ndarray | None]]:
-    """Every non-identity combination of the mirror and the kind relabellings."""
-    perms = [None] + ([mirror] if mirror is not None else [])
-    maps: list[np.ndarray | None] = [None, *kmaps]
-    return [(p, m) for p in perms for m in maps if p is not None or m is not None]

@@ -10,6 +10,7 @@ so a block of ``Np × Ns`` arrangements costs ``Np + Ns`` partial sums and one b
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterator, Sequence
 
 import numpy as np
@@ -67,10 +68,13 @@ def cartesian(blocks: Sequence[np.ndarray]) -> np.ndarray:
     return out
 
 
-def _count(counts: np.ndarray) -> int:
-    from trayadvisor.ranking.space import multinomial
-
-    return multinomial(counts)
+def multinomial(counts: np.ndarray) -> int:
+    """n! / Π k_i! for the counts (exact integer)."""
+    total, out = 0, 1
+    for c in (int(v) for v in np.asarray(counts).ravel()):
+        total += c
+        out *= math.comb(total, c)
+    return out
 
 
 def blocks(cells: Sequence[Cell], max_suffix: int = 2048
@@ -82,7 +86,7 @@ def blocks(cells: Sequence[Cell], max_suffix: int = 2048
     suffix_rows[k])``. Over all yielded blocks each distinct arrangement appears once.
     """
     cells = sorted(cells, key=lambda c: c[0])
-    sizes = [_count(c[2]) for c in cells]
+    sizes = [multinomial(c[2]) for c in cells]
     m = len(cells)
     prod = 1
     while m > 0 and prod * sizes[m - 1] <= max_suffix:
@@ -98,7 +102,7 @@ def blocks(cells: Sequence[Cell], max_suffix: int = 2048
     for keep in range(length - 1, -1, -1):  # positions of the split cell in the suffix
         pre, rem = multiset_sequences(counts, length - keep)
         uniq, inv = np.unique(rem, axis=0, return_inverse=True)
-        if keep == 0 or max(_count(r) for r in uniq) * prod <= max_suffix:
+        if keep == 0 or max(multinomial(r) for r in uniq) * prod <= max_suffix:
             break
     inv = inv.reshape(-1)
     for u, r in enumerate(uniq):

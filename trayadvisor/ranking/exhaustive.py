@@ -20,8 +20,8 @@ from collections.abc import Callable
 import numpy as np
 
 from trayadvisor.ranking.enumeration import blocks
-from trayadvisor.ranking.tables import Pool, Tables
 from trayadvisor.ranking.space import Space
+from trayadvisor.ranking.tables import Pool, Tables
 
 _FILTER_UNIFORM = 12  # evenly spread filter points
 _FILTER_PEAKS = 4  # plus the peak points of the best arrangements found so far

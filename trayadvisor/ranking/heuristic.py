@@ -27,14 +27,14 @@ from collections.abc import Callable
 import numpy as np
 
 from trayadvisor.model import Layout
-from trayadvisor.ranking.build import build_space, find_mirror
-from trayadvisor.ranking.tables import Pool, Tables
+from trayadvisor.ranking.build import build_space
+from trayadvisor.ranking.errors import RankError
 from trayadvisor.ranking.exhaustive import exhaustive
 from trayadvisor.ranking.local_search import SearchStats, run_local
 from trayadvisor.ranking.sets import paired_subproblems
-from trayadvisor.ranking.slots import RankError
 from trayadvisor.ranking.space import Space
-from trayadvisor.ranking.symmetry import mirror_subproblem
+from trayadvisor.ranking.symmetry import find_mirror, mirror_subproblem
+from trayadvisor.ranking.tables import Pool, Tables
 
 SEED_EXHAUSTIVE = 2_000_000  #: restricted spaces up to this size are enumerated exactly
 _SEED_SHARE = 0.6  # share of the time budget the restricted searches may use

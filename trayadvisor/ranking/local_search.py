@@ -18,8 +18,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.ranking.tables import Pool, Tables
 from trayadvisor.ranking.space import Space
+from trayadvisor.ranking.tables import Pool, Tables
 
 _SCREEN_POINTS = 8  # peak points used to screen moves
 _BATCH = 24  # moves evaluated on every point per batch

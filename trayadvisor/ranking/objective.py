@@ -3,9 +3,9 @@
 Each objective has a fixed set of *search points* (metres) on which arrangements are scored
 during the search, and an exact score (µT) computed by the same functions ``field`` uses:
 
-- contour: :func:`trayadvisor.engine.contour.stray_field` (samples plus refinement); the search
+- contour: :func:`trayadvisor.engine.stray_field` (samples plus refinement); the search
   points are every m-th of its samples, so a sampled score never exceeds the exact one;
-- ``line:NAME``: :func:`trayadvisor.analysis.summary.line_figure`, the maximum over the line's samples
+- ``line:NAME``: :func:`trayadvisor.engine.line_figure`, the maximum over the line's samples
   (search points: all samples, or every m-th of very long lines);
 - ``point:NAME``: the resultant at the named point.
 """
@@ -17,11 +17,20 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trayadvisor.analysis.summary import UT, envelope_m, field_at_points_uT, line_figure, line_points_mm
-from trayadvisor.engine.contour import contour_length, default_samples, offset_points, stray_field
+from trayadvisor.engine import (
+    SourceArrays,
+    contour_length,
+    default_samples,
+    envelope_m,
+    field_at_points_uT,
+    line_figure,
+    line_points_mm,
+    offset_points,
+    stray_field,
+)
+from trayadvisor.engine.units import MM, UT
 from trayadvisor.model import Layout
-from trayadvisor.ranking.slots import RankError
-from trayadvisor.engine.currents import MM, Sources
+from trayadvisor.ranking.errors import RankError
 
 MAX_SEARCH_POINTS = 512  #: the contour's samples are thinned to at most this many
 MAX_LINE_POINTS = 2048  #: a line's samples are thinned to at most this many
@@ -38,7 +47,7 @@ class Objective:
     all_m: np.ndarray  # (Q, 2) every point of the exact objective's sample set, m
     distance_m: float
 
-    def score_uT(self, src: Sources, layout: Layout,
+    def score_uT(self, src: SourceArrays, layout: Layout,
                  positions: dict[str, tuple[float, float]]) -> float:
         """Exact objective (µT) with the conductors at ``positions`` (mm, by name)."""
         xy = np.array([positions[c.name] for c in layout.conductors],
@@ -73,7 +82,7 @@ def _thin(n: int, cap: int) -> np.ndarray:
 
 
 def make_objective(layout: Layout, distance_mm: float, objective: str | None,
-                   src: Sources) -> Objective:
+                   src: SourceArrays) -> Objective:
     """Parse ``objective`` (None, "contour", "line:NAME", "point:NAME") for ``layout``."""
     text = "contour" if objective is None else str(objective)
     kind, _, name = text.partition(":")
@@ -89,20 +98,20 @@ def make_objective(layout: Layout, distance_mm: float, objective: str | None,
     if kind == "line" and name:
         names = [ln.name for ln in layout.lines]
         if name not in names:
-            raise RankError(f"--objective line:{name}: the layout has no observation line "
-                            f"'{name}'; " + (f"its lines are {', '.join(names)}" if names
-                                             else "add a [[line]] or use the contour"))
+            raise RankError(f"the layout has no observation line '{name}'; "
+                            + (f"its lines are {', '.join(names)}" if names
+                               else "add a [[line]] or use the contour"), "objective", text)
         pts = line_points_mm(layout.line(name)) * MM
         return Objective("line", name, f"line {name}", pts[_thin(len(pts), MAX_LINE_POINTS)],
                          pts, d)
     if kind == "point" and name:
         names = [p.name for p in layout.points]
         if name not in names:
-            raise RankError(f"--objective point:{name}: the layout has no observation point "
-                            f"'{name}'; " + (f"its points are {', '.join(names)}" if names
-                                             else "add a [[point]] or use the contour"))
+            raise RankError(f"the layout has no observation point '{name}'; "
+                            + (f"its points are {', '.join(names)}" if names
+                               else "add a [[point]] or use the contour"), "objective", text)
         p = layout.point(name)
         pts = np.array([[p.x_mm, p.y_mm]]) * MM
         return Objective("point", name, f"point {name}", pts, pts, d)
-    raise RankError(f"--objective {text}: use line:NAME or point:NAME (or leave it out for "
-                    "the contour at --distance-mm)")
+    raise RankError("use line:NAME or point:NAME, or none for the curve at distance d",
+                    "objective", text)

@@ -3,12 +3,13 @@
 ``rank_layout`` searches the distinct arrangements of the movable conductors over candidate
 positions (see :mod:`trayadvisor.ranking.space`), exactly when their number allows
 (:mod:`trayadvisor.ranking.exhaustive`) and by iterated local search beyond
-(:mod:`trayadvisor.ranking.local_search`). The search scores arrangements on a fixed set of objective
-points (a subset of the samples the contour uses); the best candidates are then re-scored with
-the very function ``field`` uses, so an option's figure equals
-:func:`trayadvisor.analysis.summary.stray_uT` on its positions. Because the re-scored figure is never
-below the sampled one, re-scoring in sampled order can stop as soon as the next sampled value
-exceeds the K-th re-scored one: the exhaustive top K is then exact (``certified``).
+(:mod:`trayadvisor.ranking.local_search`, :mod:`trayadvisor.ranking.heuristic`). The search
+scores arrangements on a fixed set of objective points (a subset of the samples the contour
+uses); the best candidates are then re-scored with the very function ``field`` uses, so an
+option's figure equals :func:`trayadvisor.engine.stray_uT` on its positions. Because the
+re-scored figure is never below the sampled one, re-scoring in sampled order can stop as soon
+as the next sampled value exceeds the K-th re-scored one: the exhaustive top K is then exact
+(``certified``).
 """
 
 from __future__ import annotations
@@ -16,27 +17,28 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
-from typing import Any, Protocol
 
 import numpy as np
 
-from trayadvisor.analysis.summary import UT
-from trayadvisor.engine.field import far_field
+from trayadvisor.coupling import (
+    imbalance_constraint,
+    induced_voltage_constraint,
+    sharing_overrides,
+)
+from trayadvisor.engine import DEFAULT_DISTANCE_MM, far_field, layout_sources
+from trayadvisor.engine.units import MM, UT
 from trayadvisor.model import Layout
-from trayadvisor.ranking.build import build_space, find_mirror, phase_symmetries, symmetry_group
-from trayadvisor.ranking.tables import Pool, Tables
+from trayadvisor.ranking.build import build_space
+from trayadvisor.ranking.errors import RankError
 from trayadvisor.ranking.exhaustive import exhaustive
+from trayadvisor.ranking.heuristic import run_heuristic
 from trayadvisor.ranking.local_search import run_local
 from trayadvisor.ranking.objective import Objective, make_objective
-from trayadvisor.ranking.heuristic import run_heuristic
-from trayadvisor.ranking.sketch import sketch
-from trayadvisor.ranking.slots import RankError
-from trayadvisor.coupling.sharing import sharing_overrides
-from trayadvisor.engine.currents import MM, sources
-
-__all__ = ["Constraint", "RankError", "RankOption", "RankResult", "apply_option",
-           "rank_layout"]
+from trayadvisor.ranking.result import Constraint, RankOption, RankResult
+from trayadvisor.ranking.sketch import sketch_text
+from trayadvisor.ranking.slots import SLOT_RULES
+from trayadvisor.ranking.symmetry import find_mirror, phase_symmetries, symmetry_group
+from trayadvisor.ranking.tables import Pool, Tables
 
 DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by default
 DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
@@ -45,91 +47,22 @@ _SMALL = 512  # below this many arrangements no seeding is needed
 SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing (``sharing=True``)
 
 
-class Constraint(Protocol):
-    """A check on one arrangement, given as the layout with that arrangement's positions.
-
-    It returns an object with ``passes`` (bool), ``key`` (str) and ``value`` (float) —
-    e.g. :class:`trayadvisor.coupling.constraints.ConstraintFigure` — or a plain bool.
-    Options that fail are skipped; ``key: value`` goes into the option's ``figures``.
-    """
-
-    def __call__(self, layout: Layout) -> Any: ...
-
-
-@dataclass(frozen=True)
-class RankOption:
-    """One ranked arrangement with its figures (µT, %, dB) and every conductor's centre."""
-
-    rank: int
-    max_resultant_uT: float
-    reduction_pct: float
-    reduction_db: float
-    far_field_order: int | None
-    positions: dict[str, tuple[float, float]]  # every conductor, mm
-    sketch: str
-    figures: dict[str, float] = field(default_factory=dict)
-
-
-@dataclass(frozen=True)
-class RankResult:
-    """A ranking run: which method, how much was evaluated, and the options found."""
-
-    distance_mm: float
-    method: str  # "exhaustive" or "heuristic"
-    evaluated: int
-    distinct: int | None
-    baseline_uT: float
-    options: tuple[RankOption, ...]
-    elapsed_s: float
-    stopped_early: bool
-    objective: str
-    certified: bool = False  # exhaustive and complete: the options are the exact top K
-    screened: int = 0  # heuristic: further arrangements bounded on a few points only
-    notes: tuple[str, ...] = ()
-    baseline_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
-
-    def to_json(self) -> dict:
-        """The SPEC's ``rank --json`` object, plus added keys."""
-        return {
-            "distance_mm": self.distance_mm,
-            "method": self.method,
-            "evaluated": self.evaluated,
-            "distinct": self.distinct,
-            "objective": self.objective,
-            "baseline_uT": self.baseline_uT,
-            "certified": self.certified,
-            "screened": self.screened,
-            "stopped_early": self.stopped_early,
-            "elapsed_s": self.elapsed_s,
-            "notes": list(self.notes),
-            "options": [
-                {"rank": o.rank, "max_resultant_uT": o.max_resultant_uT,
-                 "reduction_pct": o.reduction_pct, "reduction_db": o.reduction_db,
-                 "far_field_order": o.far_field_order, "figures": dict(o.figures),
-                 "sketch": o.sketch,
-                 "conductors": [{"name": n, "x_mm": x, "y_mm": y}
-                                for n, (x, y) in o.positions.items()]}
-                for o in self.options
-            ],
-        }
-
-
-def apply_option(layout: Layout, option: RankOption) -> Layout:
-    """A copy of ``layout`` with every conductor at the option's position."""
-    return layout.with_positions(option.positions)
-
-
-def _coupling_reporters(constraints: Sequence[Constraint], sharing: bool
-                        ) -> tuple[Constraint, ...]:
-    """Figure-only coupling checks (limit inf) for the keys no given constraint covers."""
-    from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
-
-    have = {getattr(c, "key", None) for c in constraints}
-    out: list[Constraint] = []
-    if "imbalance_pct" not in have:
-        out.append(imbalance_constraint(math.inf))
-    if "induced_mV_per_m" not in have:
-        out.append(induced_voltage_constraint(math.inf, sharing=sharing))
+def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: float,
+                          max_induced_mV_per_m: float, sharing: bool,  # noqa: N803
+                          figures: bool) -> tuple[Constraint, ...]:
+    """The given constraints, the limits on imbalance and victim EMF, and (with ``figures``)
+    figure-only checks (limit inf) for the keys nothing else covers."""
+    out = list(constraints)
+    if not math.isinf(max_imbalance_pct):
+        out.append(imbalance_constraint(max_imbalance_pct))
+    if not math.isinf(max_induced_mV_per_m):
+        out.append(induced_voltage_constraint(max_induced_mV_per_m, sharing=sharing))
+    if figures:
+        have = {getattr(c, "key", None) for c in out}
+        if "imbalance_pct" not in have:
+            out.append(imbalance_constraint(math.inf))
+        if "induced_mV_per_m" not in have:
+            out.append(induced_voltage_constraint(math.inf, sharing=sharing))
     return tuple(out)
 
 
@@ -146,15 +79,62 @@ def _check(constraints: Sequence[Constraint], lay: Layout) -> tuple[bool, dict[s
     return ok, figs
 
 
-def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
+def _whole(name: str, value: object, low: int) -> None:
+    if isinstance(value, bool) or not isinstance(value, int | np.integer):
+        raise RankError("must be a whole number", name, value)
+    if value < low:
+        raise RankError(f"must be at least {low}", name, value)
+
+
+def _number(name: str, value: object, *, positive: bool, inf: bool = False) -> None:
+    ok = isinstance(value, int | float | np.integer | np.floating) \
+        and not isinstance(value, bool) and not math.isnan(value) \
+        and (inf or math.isfinite(value)) and (value > 0 if positive else value >= 0)
+    if not ok:
+        raise RankError("must be a positive number" if positive
+                        else "must be zero or a positive number", name, value)
+
+
+def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int = 5,
+                       objective: str | None = None, slots: str | None = None,
+                       max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
+                       budget_s: float | None = None, seed: int = 0,
+                       max_imbalance_pct: float = math.inf,
+                       max_induced_mV_per_m: float = math.inf,  # noqa: N803
+                       **_: object) -> None:
+    """Check the options of :func:`rank_layout` that do not depend on the layout.
+
+    Raises :class:`RankError` naming the parameter; front ends call it before a batch so
+    that a bad option is one error, not one per file.
+    """
+    _whole("top_k", top_k, 1)
+    _whole("seed", seed, 0)
+    _whole("max_exhaustive", max_exhaustive, 0)
+    _number("distance_mm", distance_mm, positive=False)
+    if budget_s is not None:
+        _number("budget_s", budget_s, positive=True)
+    _number("max_imbalance_pct", max_imbalance_pct, positive=True, inf=True)
+    _number("max_induced_mV_per_m", max_induced_mV_per_m, positive=True, inf=True)
+    if objective is not None and objective != "contour":
+        kind, _, name = str(objective).partition(":")
+        if kind not in ("line", "point") or not name:
+            raise RankError("use line:NAME or point:NAME, or none for the curve at "
+                            "distance d", "objective", objective)
+    if slots is not None and slots not in SLOT_RULES:
+        raise RankError(f"use one of {', '.join(SLOT_RULES)}", "slots", slots)
+
+
+def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int = 5,
                 objective: str | None = None, slots: str | None = None,
                 bundles: bool = False, max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
-                budget_s: float | None = None, seed: int = 0,
+                budget_s: float | None = None, seed: int = 0, sharing: bool = False,
+                max_imbalance_pct: float = math.inf,
+                max_induced_mV_per_m: float = math.inf,  # noqa: N803
                 constraints: Sequence[Constraint] = (),
                 progress: Callable[[float, str], None] | None = None,
                 cancel: Callable[[], bool] | None = None,
                 max_evaluations: int | None = None,
-                patience: int | None = None, sharing: bool = False,
+                patience: int | None = None,
                 coupling_figures: bool = True) -> RankResult:
     """Rank the distinct arrangements of the movable conductors by stray field.
 
@@ -179,7 +159,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
     seed : int
         Seed of the local search (results repeat for one seed unless the budget cuts in).
     constraints : sequence of Constraint
-        Checks an option must pass, and figures every option lists. A constraint with a
+        Further checks an option must pass, and figures every option lists. A constraint with a
         finite ``limit`` makes conductors of different circuits distinguishable; one with
         ``limit = inf`` only reports its figure.
     progress : callable(fraction, message), optional
@@ -190,9 +170,15 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
         Heuristic stops: scored arrangements; descents without a new best.
     sharing : bool
         Score the options with the solved current sharing between parallel conductors
-        (:func:`trayadvisor.coupling.sharing.sharing_overrides`) instead of equal shares. The search
+        (:func:`trayadvisor.coupling.sharing_overrides`) instead of equal shares. The search
         itself runs on equal shares; the best :data:`SHARING_RESCORE` candidates are then
         re-scored with sharing and re-ranked (such a ranking is not certified).
+    max_imbalance_pct : float
+        Keep only options whose parallel conductors share current within this imbalance
+        (%, (max − min)/mean of each phase group, solved sharing); inf keeps all.
+    max_induced_mV_per_m : float
+        Keep only options that induce at most this EMF (mV/m) in every victim loop; inf
+        keeps all.
     coupling_figures : bool
         List every option's current imbalance and victim EMF (``imbalance_pct``,
         ``induced_mV_per_m`` in ``figures``) when the layout has parallel conductors or
@@ -201,25 +187,28 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
     Returns
     -------
     RankResult
+
+    Raises
+    ------
+    RankError
+        A request that cannot be run; ``err.parameter`` names the keyword argument at fault.
     """
     t0 = time.perf_counter()
-    if isinstance(top_k, bool) or not isinstance(top_k, int | np.integer) or top_k < 1:
-        raise RankError(f"--top {top_k}: must be at least 1")
-    if not np.isfinite(distance_mm) or distance_mm < 0:
-        raise RankError(f"--distance-mm {distance_mm}: must be zero or a positive number")
-    if budget_s is not None and (not np.isfinite(budget_s) or budget_s <= 0):
-        raise RankError(f"--budget-s {budget_s}: must be a positive number of seconds")
-    src = sources(layout)
+    check_rank_options(distance_mm=distance_mm, top_k=top_k, objective=objective, slots=slots,
+                       max_exhaustive=max_exhaustive, budget_s=budget_s, seed=seed,
+                       max_imbalance_pct=max_imbalance_pct,
+                       max_induced_mV_per_m=max_induced_mV_per_m)
+    src = layout_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
+    constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
+                                        sharing, coupling_figures)
     identity = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
-    if coupling_figures:
-        constraints = (*constraints, *_coupling_reporters(constraints, sharing))
     space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
     notes = list(space.notes)
     _symmetries(space, layout, obj, identity, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
-    baseline = obj.score_uT(sources(layout, sharing_overrides(layout)) if sharing else src,
+    baseline = obj.score_uT(layout_sources(layout, sharing_overrides(layout)) if sharing else src,
                             layout, base_pos)
     method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
     deadline = None
@@ -259,7 +248,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = 500.0, top_k: int = 5,
         RankOption(rank=r + 1, max_resultant_uT=v,
                    reduction_pct=100.0 * (1.0 - v / baseline) if baseline > 0 else 0.0,
                    reduction_db=_db(baseline, v), far_field_order=order,
-                   positions=pos, sketch=sketch(layout, pos), figures=figs)
+                   positions=pos, sketch=sketch_text(layout, pos), figures=figs)
         for r, (v, pos, order, figs) in enumerate(options))
     return RankResult(distance_mm=float(distance_mm), method=method, evaluated=int(evaluated),
                       distinct=int(distinct), baseline_uT=float(baseline), options=opts,
@@ -357,7 +346,7 @@ def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,
         ok, figs = _check(constraints, moved) if constraints else (True, {})
         if not ok:
             continue
-        value = obj.score_uT(sources(moved, sharing_overrides(moved)) if sharing else src,
+        value = obj.score_uT(layout_sources(moved, sharing_overrides(moved)) if sharing else src,
                              layout, pos)
         xy = np.array([pos[nm] for nm in names], dtype=float).reshape(-1, 2) * MM
         order = far_field(xy, src.currents).order

@@ -23,8 +23,8 @@ from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.ranking.tables import Tables
 from trayadvisor.ranking.space import TOL_MM, Group, Space
+from trayadvisor.ranking.tables import Tables
 
 MAX_GROUPS = 256  #: larger spaces are not paired (the pair search is quadratic in groups)
 MAX_DIRECTIONS = 2  #: pairing directions tried, shortest first

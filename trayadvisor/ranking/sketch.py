@@ -23,7 +23,7 @@ def _letters(n: int) -> list[str]:
     return [alpha[i] if i < 26 else alpha[i // 26 - 1] + alpha[i % 26] for i in range(n)]
 
 
-def sketch(layout: Layout, positions: dict[str, tuple[float, float]],
+def sketch_text(layout: Layout, positions: dict[str, tuple[float, float]],
            width: int = WIDTH) -> str:
     """Text drawing of ``layout`` with conductors at ``positions`` (mm, by name).
 

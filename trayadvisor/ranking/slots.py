@@ -18,13 +18,10 @@ import math
 import numpy as np
 
 from trayadvisor.model import Layout, Tray
+from trayadvisor.ranking.errors import RankError
 
 SLOT_RULES: tuple[str, ...] = ("touching", "spaced", "trefoil")
 _TOL = 1e-6  # mm
-
-
-class RankError(ValueError):
-    """A clean one-line problem with a ranking request (the CLI adds its prefix)."""
 
 
 def tray_of(layout: Layout, i: int) -> Tray | None:
@@ -73,21 +70,21 @@ def slot_grid(layout: Layout, rule: str, movable: list[int], group_size: int | N
     """
     cons = layout.conductors
     if not movable:
-        raise RankError(f"--slots {rule}: the layout has no movable conductor (all are "
-                        "fixed = true)")
+        raise RankError("the layout has no movable conductor (all are fixed = true)",
+                        "slots", rule)
     diam = {round(cons[i].diameter_mm, 6) for i in movable}
     if len(diam) > 1:
-        raise RankError(f"--slots {rule}: the movable conductors have "
-                        f"{len(diam)} different diameters "
+        raise RankError(f"the movable conductors have {len(diam)} different diameters "
                         f"({', '.join(f'{v:g}' for v in sorted(diam))} mm); a slot grid needs "
-                        "one diameter: mark the others fixed = true or rank without --slots")
+                        "one diameter: mark the others fixed = true or rank without a slot "
+                        "grid", "slots", rule)
     d = float(cons[movable[0]].diameter_mm)
     trays: list[Tray] = []
     for i in movable:
         t = tray_of(layout, i)
         if t is None:
-            raise RankError(f"--slots {rule}: conductor '{cons[i].name}' is in no tray; "
-                            "a slot grid is generated inside trays")
+            raise RankError(f"conductor '{cons[i].name}' is in no tray; a slot grid is "
+                            "generated inside trays", "slots", rule)
         if t not in trays:
             trays.append(t)
     fixed = [c for c in cons if c.fixed]
@@ -98,15 +95,15 @@ def slot_grid(layout: Layout, rule: str, movable: list[int], group_size: int | N
         y = tray.y_mm + 0.5 * d
         if rule == "trefoil":
             if tray.depth_mm + _TOL < d * (1.0 + 0.5 * math.sqrt(3.0)):
-                raise RankError(f"--slots trefoil: tray '{tray.name}' is "
-                                f"{tray.depth_mm:g} mm deep, a trefoil of {d:g} mm cables "
-                                f"needs {d * (1 + 0.5 * math.sqrt(3)):.1f} mm")
+                raise RankError(f"tray '{tray.name}' is {tray.depth_mm:g} mm deep, a trefoil "
+                                f"of {d:g} mm cables needs "
+                                f"{d * (1 + 0.5 * math.sqrt(3)):.1f} mm", "slots", rule)
             items = [[(cx - 0.5 * d, y), (cx + 0.5 * d, y),
                       (cx, y + 0.5 * math.sqrt(3.0) * d)] for cx in _row(tray, d, 4 * d, 2 * d)]
         else:
             if tray.depth_mm + _TOL < d:
-                raise RankError(f"--slots {rule}: tray '{tray.name}' is {tray.depth_mm:g} mm "
-                                f"deep, less than the cable diameter {d:g} mm")
+                raise RankError(f"tray '{tray.name}' is {tray.depth_mm:g} mm deep, less than "
+                                f"the cable diameter {d:g} mm", "slots", rule)
             pitch = d if rule == "touching" else 2 * d
             items = [[(float(x), y)] for x in _row(tray, d, pitch, d)]
         kept = [it for it in items if not _hits_fixed(it, 0.5 * d, fx)]

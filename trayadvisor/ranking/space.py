@@ -16,12 +16,12 @@ first, then groups, and inside a group by diameter, so every cell is a slice.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from trayadvisor.model import Layout
+from trayadvisor.ranking.enumeration import cartesian, multinomial, multiset_sequences
 
 TOL_MM = 1e-6  #: positions closer than this are the same place (mm)
 
@@ -137,8 +137,6 @@ class Space:
 
     def configurations(self) -> np.ndarray:
         """(C, G) int: every distinct assignment of set types to groups."""
-        from trayadvisor.ranking.enumeration import cartesian, multiset_sequences
-
         g = len(self.groups)
         if g == 0:
             return np.zeros((1, 0), dtype=np.int64)
@@ -239,14 +237,3 @@ def _lexmin(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     rows = np.arange(a.shape[0])
     take = diff[rows, first] & (b[rows, first] < a[rows, first])
     return np.where(take[:, None], b, a)
-
-
-def multinomial(counts: np.ndarray) -> int:
-    """n! / Π k_i! for the counts (exact integer)."""
-    total, out = 0, 1
-    for c in (int(v) for v in np.asarray(counts).ravel()):
-        total += c
-        out *= math.comb(total, c)
-    return out
-
-

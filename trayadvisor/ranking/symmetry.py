@@ -1,4 +1,10 @@
-"""The mirror-invariant sub-problem: arrangements that equal their own mirror image.
+"""Symmetries of a ranking problem, and the mirror-invariant sub-problem.
+
+Transformations that leave the objective unchanged — a mirror about a vertical axis
+(:func:`find_mirror`) and relabellings of the phases (:func:`phase_symmetries`) — make twins
+of every arrangement; the ranking merges them (:func:`symmetry_group`).
+
+The mirror-invariant sub-problem: arrangements that equal their own mirror image.
 
 When the candidate positions, the fixed conductors and the objective are symmetric about a
 vertical axis, an arrangement with the same kind at every pair of mirrored positions makes
@@ -16,8 +22,10 @@ from collections.abc import Callable
 
 import numpy as np
 
+from trayadvisor.engine import layout_sources
+from trayadvisor.model import Layout
+from trayadvisor.ranking.space import TOL_MM, Group, Space
 from trayadvisor.ranking.tables import Tables
-from trayadvisor.ranking.space import Group, Space
 
 
 def mirror_subproblem(space: Space, tables: Tables
@@ -94,3 +102,123 @@ def mirror_subproblem(space: Space, tables: Tables
         return out
 
     return sub, red, expand
+
+
+def _q(v: float) -> int:
+    return round(float(v) / (10 * TOL_MM))
+
+
+def find_mirror(space: Space, layout: Layout, axis_x_mm: float, identity: bool = False
+                ) -> np.ndarray | None:
+    """Position permutation reflecting about x = ``axis_x_mm``, if the problem allows it.
+
+    The reflection must map candidate positions onto positions of the same diameter, every
+    free cell onto itself, every group onto a group of the same shape, and every fixed
+    conductor onto a fixed conductor of the same diameter and currents. (The objective's
+    own symmetry is the caller's check.) Returns None when any of these fails.
+    """
+    pos, dia = space.positions_mm, space.diameters_mm
+    keys = {(_q(x), _q(y), _q(d)): j for j, ((x, y), d) in enumerate(zip(pos, dia, strict=True))}
+    mir = np.array([keys.get((_q(2 * axis_x_mm - x), _q(y), _q(d)), -1)
+                    for (x, y), d in zip(pos, dia, strict=True)], dtype=np.int64)
+    if mir.size and mir.min() < 0:
+        return None
+    owner = np.full(space.n_positions, -1)
+    for g, grp in enumerate(space.groups):
+        owner[grp.start:grp.stop] = g
+    for s, e, _ in space.free_cells:
+        if set(mir[s:e].tolist()) != set(range(s, e)):
+            return None
+    for grp in space.groups:
+        targets = set(owner[mir[grp.start:grp.stop]].tolist())
+        if len(targets) != 1 or -1 in targets or \
+                space.groups[targets.pop()].shape != grp.shape:
+            return None
+    cons = layout.conductors
+    cur = layout_sources(layout).currents
+    scale = max(float(np.abs(cur).max()) if cur.size else 0.0, 1e-30)
+    fixed = {}
+    for i in space.fixed:
+        c = cons[i]
+        q = np.round(cur[:, i] / scale * 1e9)
+        fixed[(_q(c.x_mm), _q(c.y_mm))] = (_q(c.diameter_mm), tuple(q.real), tuple(q.imag),
+                                           c.circuit if identity else "")
+    for i in space.fixed:
+        c = cons[i]
+        if fixed.get((_q(2 * axis_x_mm - c.x_mm), _q(c.y_mm))) != \
+                fixed[(_q(c.x_mm), _q(c.y_mm))]:
+            return None
+    return mir
+
+
+def phase_symmetries(space: Space, layout: Layout, conjugate: bool = True
+                     ) -> list[np.ndarray]:
+    """Kind relabellings that leave every resultant unchanged.
+
+    Candidates multiply the current of frequency component h by ``s·ω^(h r)`` (ω = e^(−j2π/3):
+    phase rotation L1→L2→L3 for r = 1, 2; s = −1: reversed polarity) and optionally conjugate
+    it (swaps L2 and L3). Such a global factor per component leaves |B_h| — hence the
+    resultant, and any induced voltage — unchanged. A candidate is kept when it maps every
+    kind onto a kind (same diameter and identity), keeps every cell's and set type's counts,
+    and leaves the fixed conductors' currents as they are.
+
+    Returns
+    -------
+    list of (K,) int kind maps (identity excluded).
+    """
+    src = layout_sources(layout)
+    orders = src.orders.astype(float)
+    cur = space.kind_currents()  # (H, K)
+    scale = max(float(np.abs(src.currents).max()) if src.currents.size else 0.0, 1e-30)
+    tol = 1e-7 * scale
+    kinds = space.kinds
+    same = np.array([[_q(a.diameter_mm) == _q(b.diameter_mm) and a.identity == b.identity
+                      and a.empty == b.empty for b in kinds] for a in kinds])
+    fixed = src.currents[:, list(space.fixed)]
+    omega = np.exp(-2j * np.pi / 3)
+    out: list[np.ndarray] = []
+    combos = [(r, conj, ac, dc) for r in (0, 1, 2) for conj in
+              ((False, True) if conjugate else (False,)) for ac in (1.0, -1.0)
+              for dc in (1.0, -1.0)]
+    for r, conj, ac, dc in combos[1:]:
+        fac = np.where(orders == 0, dc, ac * omega ** (orders * r))[:, None]
+        t = fac * (np.conj(cur) if conj else cur)
+        dist = np.abs(t[:, :, None] - cur[:, None, :]).max(axis=0)  # (K from, K to)
+        match = (dist <= tol) & same
+        if not match.any(axis=1).all():
+            continue
+        kmap = np.argmax(match, axis=1)
+        if len(set(kmap.tolist())) != kmap.size:
+            continue
+        if fixed.size:
+            tf = fac * (np.conj(fixed) if conj else fixed)
+            if np.abs(tf - fixed).max() > tol:
+                continue
+        if _keeps_counts(space, kmap) and not np.array_equal(kmap, np.arange(kmap.size)) \
+                and not any(np.array_equal(kmap, m) for m in out):
+            out.append(kmap)
+    return out
+
+
+def _keeps_counts(space: Space, kmap: np.ndarray) -> bool:
+    for _, _, counts in space.free_cells:
+        moved = np.zeros_like(counts)
+        moved[kmap] = counts
+        if not np.array_equal(moved, counts):
+            return False
+    types = {tuple(row.tolist()): int(n) for row, n in zip(space.set_types, space.type_counts,
+                                                           strict=True)}
+    for row, n in zip(space.set_types, space.type_counts, strict=True):
+        moved = np.zeros_like(row)
+        moved[kmap] = row
+        if types.get(tuple(moved.tolist())) != int(n):
+            return False
+    return True
+
+
+def symmetry_group(mirror: np.ndarray | None, kmaps: list[np.ndarray]
+                   ) -> list[tuple[np.ndarray | None, np.ndarray | None]]:
+    """Every non-identity combination of the mirror and the kind relabellings."""
+    perms = [None] + ([mirror] if mirror is not None else [])
+    maps: list[np.ndarray | None] = [None, *kmaps]
+    return [(p, m) for p in perms for m in maps if p is not None or m is not None]

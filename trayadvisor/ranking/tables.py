@@ -15,9 +15,9 @@ from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.engine.field import unit_field
+from trayadvisor.engine import SourceArrays, unit_field
+from trayadvisor.engine.units import MM
 from trayadvisor.ranking.space import Space
-from trayadvisor.engine.currents import MM, Sources
 
 _CHUNK_FLOATS = 1 << 22  # floats in one temporary (32 MB)
 _STAGE_POINTS = 48  # points of the first pass of :meth:`Tables.values_below`
@@ -37,13 +37,13 @@ class Tables:
     Parameters
     ----------
     space : Space
-    src : Sources
+    src : SourceArrays
         The layout's sources (currents and radii of the fixed conductors).
     pts_m : (P, 2) float
         Objective points, m.
     """
 
-    def __init__(self, space: Space, src: Sources, pts_m: np.ndarray) -> None:
+    def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray) -> None:
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         pos = space.positions_mm * MM
         g = unit_field(pos, 0.5 * space.diameters_mm * MM, pts)  # (J, P, 2)

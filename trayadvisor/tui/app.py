@@ -19,20 +19,19 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.worker import get_current_worker
 
-from trayadvisor.analysis.summary import FieldSummary, LimitFigure
-from trayadvisor.output.cautions import CAUTION_LINE
-from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.analysis import FieldSummary, LimitFigure
+from trayadvisor.layoutfile import demo_path, read_layout
 from trayadvisor.model import Layout, Limit
+from trayadvisor.output import CAUTION_LINE
+from trayadvisor.tui.files import FileCommands
 from trayadvisor.tui.logic.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
 from trayadvisor.tui.logic.document import Document
-from trayadvisor.tui.files import FileCommands
 from trayadvisor.tui.logic.keymap import KeymapError, default_keymap_path, load_keymap
+from trayadvisor.tui.logic.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
 from trayadvisor.tui.reports import ReportCommands
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.help import HelpScreen
-from trayadvisor.tui.logic.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
 from trayadvisor.tui.views import VIEWS, ViewSpec
-from trayadvisor.output.wording import demo_path
 
 AnalysisKey = tuple[int, int, float, tuple[Limit, ...]]
 
@@ -123,7 +122,7 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         if limit is None:
             return None
         fig = self.figures.get(limit.name)
-        return fig if fig is not None and fig.ut == limit.ut else None
+        return fig if fig is not None and fig.limit_uT == limit.value_uT else None
 
     def results_pending(self) -> bool:
         """True while the figures on show are older than the model and settings."""
@@ -151,7 +150,7 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         if settings == self.settings:
             return
         self.settings = settings
-        self.limits = available_limits(self.document.layout, settings.typed_limit_ut)
+        self.limits = available_limits(self.document.layout, settings.typed_limit_uT)
         view = self.current_view()
         if view is not None:
             view.settings_changed()
@@ -168,7 +167,7 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         doc = self.document
         self.problems = [e.message for e in doc.problems()]
         if not moved:
-            self.limits = available_limits(doc.layout, self.settings.typed_limit_ut)
+            self.limits = available_limits(doc.layout, self.settings.typed_limit_uT)
         view = self.current_view()
         if view is not None:
             view.document_changed(moved)
@@ -295,7 +294,7 @@ def demo_document() -> Document:
 
 
 def make_app(path: str | os.PathLike[str] | None = None, *,
-             settings: ViewSettings | None = None, limit_ut: float | None = None,
+             settings: ViewSettings | None = None, limit_uT: float | None = None,
              keymap_path: str | os.PathLike[str] | None = None) -> TrayApp:
     """The terminal UI on the demo (``path`` None) or on a layout file, created when missing.
 
@@ -313,9 +312,9 @@ def make_app(path: str | os.PathLike[str] | None = None, *,
         keymap = load_keymap(keymap_path or default_keymap_path(), known_binding_ids())
     except KeymapError as err:
         note = f"keymap ignored: {err}"
-    if limit_ut is not None:
+    if limit_uT is not None:
         base = settings or ViewSettings(map_style=default_map_style())
-        settings = replace(base, typed_limit_ut=float(limit_ut), limit_name=TYPED_LIMIT)
+        settings = replace(base, typed_limit_uT=float(limit_uT), limit_name=TYPED_LIMIT)
     return TrayApp(doc, settings, keymap, note)
 
 

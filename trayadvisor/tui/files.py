@@ -13,7 +13,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from trayadvisor.layoutfile.reader import LayoutError
+from trayadvisor.layoutfile import LayoutError
 from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.screens.dialogs import (
     ConfirmDialog,

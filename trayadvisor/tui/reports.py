@@ -65,7 +65,7 @@ class ReportCommands(_Base):
     @work(thread=True, exclusive=True, group="report", exit_on_error=False)
     def _report_worker(self, layout: Layout, target: Path, source_file: Path | None,
                        source_name: str, distance_mm: float) -> None:
-        from trayadvisor.output.report import ReportError, write_report
+        from trayadvisor.output import ReportError, write_report
 
         text = None
         if source_file is not None:  # the file as saved is the model on show

@@ -14,7 +14,8 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trayadvisor.analysis.summary import FieldSummary, LimitFigure, field_grid_uT, field_summary
+from trayadvisor.analysis import FieldSummary, LimitFigure, field_summary
+from trayadvisor.engine import field_grid_uT
 from trayadvisor.model import Layout, Limit
 from trayadvisor.tui.logic.viewport import Viewport
 
@@ -48,7 +49,7 @@ def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
                  cancelled: Callable[[], bool] = lambda: False, summary: bool = True) -> None:
     """Compute the readouts of one layout in stages.
 
-    1. With ``summary``: ``field_summary(layout, d)`` without limits (milliseconds),
+    1. With ``summary``: ``field_summary(layout, distance_mm=d)`` without limits (milliseconds),
        emitted as SummaryDone.
     2. For each limit in ``limits``, ``field_summary`` with just that limit, which adds its
        clearance search (tens of ms each): one LimitDone each.
@@ -56,15 +57,15 @@ def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
     base = replace(layout, limits=())
     try:
         if summary:
-            result = field_summary(base, distance_mm)
+            result = field_summary(base, distance_mm=distance_mm)
             if cancelled():
                 return
             emit(SummaryDone(result))
         for lim in limits:
             if cancelled():
                 return
-            fig = field_summary(base, distance_mm,
-                                limits=[(lim.name, lim.ut, lim.source)]).limits[-1]
+            fig = field_summary(base, distance_mm=distance_mm,
+                                limits=[(lim.name, lim.value_uT, lim.source)]).limits[-1]
             if cancelled():
                 return
             emit(LimitDone(fig))

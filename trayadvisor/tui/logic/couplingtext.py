@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from trayadvisor.coupling.victims import CouplingSummary
+from trayadvisor.coupling import CouplingSummary
 
 #: Markers after the worst value of a table; words, so they read without colour.
 WORST_EMF = "◀ largest EMF"

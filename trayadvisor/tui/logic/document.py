@@ -10,7 +10,7 @@ import os
 from dataclasses import dataclass
 from pathlib import Path
 
-from trayadvisor.layoutfile.reader import LayoutError, layout_problems, read_layout, write_layout
+from trayadvisor.layoutfile import LayoutError, layout_problems, read_layout, write_layout
 from trayadvisor.model import Layout
 from trayadvisor.tui.logic.edits import new_layout
 

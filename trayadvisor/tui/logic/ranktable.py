@@ -11,8 +11,8 @@ import math
 from dataclasses import dataclass
 
 from trayadvisor.model import Layout
-from trayadvisor.ranking.rank import RankOption, RankResult, apply_option
-from trayadvisor.output.wording import decay_text, fmt_ut
+from trayadvisor.output import decay_text, fmt_uT
+from trayadvisor.ranking import RankOption, RankResult, apply_option
 
 MAX_TOP_K = 50  #: most options one run lists
 CONTOUR = "contour"  #: the objective value that means "the contour at d"
@@ -130,7 +130,7 @@ def fmt_figure(v: float) -> str:
 
 def option_cells(result: RankResult, option: RankOption) -> list[str]:
     """One table row, in :func:`columns` order."""
-    cells = [str(option.rank), fmt_ut(option.max_resultant_uT), _pct(option.reduction_pct),
+    cells = [str(option.rank), fmt_uT(option.max_resultant_uT), _pct(option.reduction_pct),
              _db(option.reduction_db), order_text(option.far_field_order)]
     cells += [fmt_figure(option.figures[k]) if k in option.figures else "–"
               for k in figure_keys(result)]
@@ -162,12 +162,12 @@ def run_notes(result: RankResult) -> list[str]:
 def option_lines(result: RankResult, option: RankOption, n_conductors: int) -> list[str]:
     """The highlighted option's figures, then the figure of the arrangement ranked."""
     lines = [f"Option {option.rank} of {len(result.options)} (a applies)",
-             f" {fmt_ut(option.max_resultant_uT)} µT, {_pct(option.reduction_pct)} % lower, "
+             f" {fmt_uT(option.max_resultant_uT)} µT, {_pct(option.reduction_pct)} % lower, "
              f"{_db(option.reduction_db)} dB",
              f" far field {order_text(option.far_field_order)}",
              f" moves {moved_count(result, option)} of {n_conductors} conductors"]
     lines += [f" {FIGURE_LABELS.get(k, k)} {fmt_figure(v)}" for k, v in option.figures.items()]
-    lines.append(f"Before (as ranked): {fmt_ut(result.baseline_uT)} µT")
+    lines.append(f"Before (as ranked): {fmt_uT(result.baseline_uT)} µT")
     return lines
 
 

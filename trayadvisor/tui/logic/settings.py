@@ -7,7 +7,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from trayadvisor.analysis.summary import DEFAULT_DISTANCE_MM
+from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.limits import all_limits
 from trayadvisor.model import Layout, Limit
 
@@ -26,7 +26,7 @@ class ViewSettings:
         Distance d outside the tray envelope for the stray field (mm, >= 0).
     limit_name : str or None
         The chosen limit; ``None`` picks the default (see :func:`chosen_limit`).
-    typed_limit_ut : float or None
+    typed_limit_uT : float or None
         A limit typed in by the user (µT), offered as ``TYPED_LIMIT``.
     fine_step_mm : float
         Arrow-key move step (mm); shift+arrow moves by one conductor diameter.
@@ -36,7 +36,7 @@ class ViewSettings:
 
     distance_mm: float = DEFAULT_DISTANCE_MM
     limit_name: str | None = None
-    typed_limit_ut: float | None = None
+    typed_limit_uT: float | None = None
     fine_step_mm: float = 5.0
     map_style: str = "colour"
 
@@ -45,19 +45,19 @@ class ViewSettings:
             raise ValueError("distance d must be zero or a positive number of mm")
         if not (math.isfinite(self.fine_step_mm) and self.fine_step_mm > 0):
             raise ValueError("the move step must be a positive number of mm")
-        t = self.typed_limit_ut
+        t = self.typed_limit_uT
         if t is not None and not (math.isfinite(t) and t > 0):
             raise ValueError("a limit must be a positive number of µT")
         if self.map_style not in MAP_STYLES:
             raise ValueError(f"map style must be one of {', '.join(MAP_STYLES)}")
 
 
-def available_limits(layout: Layout, typed_ut: float | None = None) -> tuple[Limit, ...]:
+def available_limits(layout: Layout, typed_uT: float | None = None) -> tuple[Limit, ...]:
     """The limits offered: the library's (valid at the layout's frequency), the layout's
     own ``[[limit]]`` entries, and a typed-in one."""
     found = all_limits(layout)
-    if typed_ut is not None:
-        found += (Limit(TYPED_LIMIT, float(typed_ut), "typed in"),)
+    if typed_uT is not None:
+        found += (Limit(TYPED_LIMIT, float(typed_uT), "typed in"),)
     return found
 
 

@@ -21,8 +21,8 @@ from textual.css.query import NoMatches
 from textual.screen import Screen
 from textual.widgets import Footer
 
-from trayadvisor.tui.screens.forms import SettingsForm
 from trayadvisor.tui.logic.settings import ViewSettings
+from trayadvisor.tui.screens.forms import SettingsForm
 from trayadvisor.tui.widgets.panels import StatusLine, ViewBar
 
 if TYPE_CHECKING:

@@ -16,7 +16,7 @@ from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.worker import get_current_worker
 
-from trayadvisor.coupling.victims import CouplingSummary, coupling_summary
+from trayadvisor.coupling import CouplingSummary, coupling_summary
 from trayadvisor.model import Layout
 from trayadvisor.tui.logic.couplingtext import Line, coupling_lines
 from trayadvisor.tui.screens.editing import EditingScreen

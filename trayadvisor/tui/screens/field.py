@@ -18,8 +18,8 @@ from trayadvisor.model import Layout
 from trayadvisor.tui.logic.compute import map_grid
 from trayadvisor.tui.logic.mapscale import MapScale
 from trayadvisor.tui.logic.scene import FieldMap
-from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.logic.viewport import Viewport
+from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend
 

@@ -24,11 +24,11 @@ from textual.widget import Widget
 from textual.widgets import Button, Input, Label, OptionList, Select, Static
 from textual.widgets.option_list import Option
 
-from trayadvisor.analysis.summary import LimitFigure
+from trayadvisor.analysis import LimitFigure
 from trayadvisor.model import MATERIALS, PHASES, SYSTEMS, Circuit, Conductor, Layout, Limit, Tray
-from trayadvisor.tui.screens.dialogs import Dialog
+from trayadvisor.output import fmt_mm, fmt_uT
 from trayadvisor.tui.logic.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
-from trayadvisor.output.wording import fmt_mm, fmt_ut
+from trayadvisor.tui.screens.dialogs import Dialog
 
 T = TypeVar("T")
 _NONE = "-"
@@ -281,9 +281,9 @@ def limit_row(lim: Limit, figure: LimitFigure | None) -> str:
     """One line of the limit list: verdict at d, value, name, clearance distance."""
     name = lim.name if len(lim.name) <= 26 else lim.name[:25] + "…"
     if figure is None:
-        return f" …  {fmt_ut(lim.ut):>6} µT  {name:<26}  (computing)"
+        return f" …  {fmt_uT(lim.value_uT):>6} µT  {name:<26}  (computing)"
     verdict = "pass" if figure.passes else "FAIL"
-    return f"{verdict} {fmt_ut(lim.ut):>6} µT  {name:<26}  {fmt_mm(figure.clearance_mm)}"
+    return f"{verdict} {fmt_uT(lim.value_uT):>6} µT  {name:<26}  {fmt_mm(figure.clearance_mm)}"
 
 
 class SettingsForm(FormScreen[ViewSettings | None]):
@@ -302,7 +302,7 @@ class SettingsForm(FormScreen[ViewSettings | None]):
     def fields(self) -> Iterable[tuple[str, Widget]]:
         s = self.settings
         yield "Distance d mm", Input(_text(s.distance_mm), id="distance", compact=True)
-        yield "Typed limit µT", Input(_text(s.typed_limit_ut), id="typed", compact=True,
+        yield "Typed limit µT", Input(_text(s.typed_limit_uT), id="typed", compact=True,
                                       placeholder="optional")
         yield "Move step mm", Input(_text(s.fine_step_mm), id="step", compact=True)
         yield "Map style", _select("style", MAP_STYLES, s.map_style)
@@ -340,12 +340,12 @@ class SettingsForm(FormScreen[ViewSettings | None]):
     def build(self) -> ViewSettings | None:
         typed = self.number("typed", "typed limit", "µT", 0.0, strict=True, optional=True)
         chosen = self.chosen
-        if typed is not None and typed != self.settings.typed_limit_ut:
+        if typed is not None and typed != self.settings.typed_limit_uT:
             chosen = TYPED_LIMIT
         elif typed is None and chosen == TYPED_LIMIT:
             chosen = None
         return ViewSettings(
             distance_mm=self.number("distance", "distance d", "mm", 0.0) or 0.0,
-            limit_name=chosen, typed_limit_ut=typed,
+            limit_name=chosen, typed_limit_uT=typed,
             fine_step_mm=self.number("step", "move step", "mm", 0.0, strict=True) or 1.0,
             map_style=self.choice("style") or "colour")

@@ -10,7 +10,7 @@ from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
-from trayadvisor.output.cautions import CAUTION_LINE, CAUTIONS
+from trayadvisor.output import CAUTION_LINE, CAUTIONS
 from trayadvisor.tui.screens.dialogs import Dialog
 
 GLYPHS = (

@@ -24,9 +24,9 @@ from textual.message import Message
 from textual.widgets import DataTable, ProgressBar, Static
 from textual.worker import get_current_worker
 
-from trayadvisor.output.exports import ExportError, write_result
 from trayadvisor.model import Layout
-from trayadvisor.ranking.rank import RankError, RankOption, RankResult, apply_option, rank_layout
+from trayadvisor.output import ExportError, fmt_uT, write_result
+from trayadvisor.ranking import RankError, RankOption, RankResult, apply_option, rank_layout
 from trayadvisor.tui.logic.ranktable import (
     RankParams,
     columns,
@@ -45,7 +45,6 @@ from trayadvisor.tui.screens.dialogs import MessageDialog, choose_output
 from trayadvisor.tui.screens.rankform import RankForm
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 from trayadvisor.tui.widgets.panels import FieldReadout
-from trayadvisor.output.wording import fmt_ut
 
 OTHER_FILE = "this ranking is of another file: r ranks the open one"
 #: Shown when an option is applied: what the ranking does not look at.
@@ -316,7 +315,7 @@ class RankingScreen(WorkScreen):
             return
         best = r.options[0]
         early = "stopped early, best found so far: " if r.stopped_early else ""
-        app.set_status(f"{early}{len(r.options)} option(s), best {fmt_ut(best.max_resultant_uT)}"
+        app.set_status(f"{early}{len(r.options)} option(s), best {fmt_uT(best.max_resultant_uT)}"
                        f" µT ({best.reduction_pct:.1f} % lower); a applies the highlighted one")
 
     # -- applying and saving ----------------------------------------------------------------
@@ -341,7 +340,7 @@ class RankingScreen(WorkScreen):
         app.apply_edit(new, f"apply ranked option {opt.rank}")
         what = objective_text(self.ranked_params.objective, self.result.distance_mm
                               if self.result else app.settings.distance_mm)
-        app.set_status(f"applied option {opt.rank}: {fmt_ut(opt.max_resultant_uT)} µT {what};"
+        app.set_status(f"applied option {opt.rank}: {fmt_uT(opt.max_resultant_uT)} µT {what};"
                        " u undoes")
         app.notify(APPLY_CAUTION, title=f"Option {opt.rank} applied", severity="warning",
                    timeout=8)

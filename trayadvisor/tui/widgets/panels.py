@@ -14,12 +14,12 @@ from textual.message import Message
 from textual.widgets import OptionList, Static
 from textual.widgets.option_list import Option
 
-from trayadvisor.analysis.summary import FieldSummary, LimitFigure
+from trayadvisor.analysis import FieldSummary, LimitFigure
 from trayadvisor.model import Conductor, Layout, Limit
+from trayadvisor.output import decay_text, fmt_mm, fmt_uT
 from trayadvisor.tui.logic.couplingtext import Line
 from trayadvisor.tui.logic.mapscale import DECADES, MapScale, fmt_level, palette
 from trayadvisor.tui.logic.scene import PHASE_GLYPH, circuit_tags
-from trayadvisor.output.wording import decay_text, fmt_mm, fmt_ut
 
 
 def order_text(order: int | None) -> str:
@@ -187,20 +187,20 @@ def readout_lines(summary: FieldSummary | None, limit: Limit | None,
         return [("computing the field…", "")]
     s = summary
     lines = [(f"Stray field at d = {s.distance_mm:g} mm", "bold"),
-             (f" {fmt_ut(s.max_resultant_uT)} µT resultant RMS", "bold"),
+             (f" {fmt_uT(s.max_resultant_uT)} µT resultant RMS", "bold"),
              (f" peak at x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f} mm", ""),
              (f"Far field {order_text(s.far_field_order)}", ""),
-             (f" {fmt_ut(s.far_field_uT_at_1m)} µT at 1 m (lead term)", "")]
+             (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", "")]
     if limit is None:
         lines.append(("No limit chosen (d sets one)", ""))
         return lines
     lines.append((f"Limit {limit.name}", "bold"))
     wait = " …" if pending or figure is None else ""
     if figure is None:
-        lines.append((f" {fmt_ut(limit.ut)} µT  checking…", ""))
+        lines.append((f" {fmt_uT(limit.value_uT)} µT  checking…", ""))
         return lines
     verdict = "PASS" if figure.passes else "FAIL"
-    lines.append((f" {fmt_ut(limit.ut)} µT  {verdict} at d{wait}", "bold"))
+    lines.append((f" {fmt_uT(limit.value_uT)} µT  {verdict} at d{wait}", "bold"))
     lines.append((f" clearance {fmt_mm(figure.clearance_mm)}", ""))
     return lines
 
@@ -225,16 +225,16 @@ class FieldReadout(Static):
         if summary is None:
             self.update("computing the field…", layout=False)
             return
-        t.append(f"d {summary.distance_mm:g} mm: {fmt_ut(summary.max_resultant_uT)} µT\n",
+        t.append(f"d {summary.distance_mm:g} mm: {fmt_uT(summary.max_resultant_uT)} µT\n",
                  style="bold")
         if limit is None:
             t.append("no limit chosen (d)")
         elif figure is None:
-            t.append(f"{fmt_ut(limit.ut)} µT {limit.name}: checking…")
+            t.append(f"{fmt_uT(limit.value_uT)} µT {limit.name}: checking…")
         else:
             wait = " …" if pending else ""
             t.append(f"{'PASS' if figure.passes else 'FAIL'}{wait}", style="bold")
-            t.append(f" {fmt_ut(limit.ut)} µT {limit.name}")
+            t.append(f" {fmt_uT(limit.value_uT)} µT {limit.name}")
         t.append(f"\nfar field {order_text(summary.far_field_order)}")
         self.update(t, layout=False)
 

@@ -1,0 +1,101 @@
+"""Every coupling figure of one layout: victim EMF, loop inductances, current sharing.
+
+``coupling_summary`` is what ``couple`` prints, the UI's coupling view shows and reports
+include, with the options as keyword arguments.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from trayadvisor.coupling.inductance import loop_inductance_matrix
+from trayadvisor.coupling.sharing import DEFAULT_TEMPERATURE_C, SharingResult, solve_sharing
+from trayadvisor.coupling.victims import VictimFigure, induced_emf
+from trayadvisor.engine.units import UH
+from trayadvisor.model import Layout
+
+
+@dataclass(frozen=True)
+class CouplingSummary:
+    """Every coupling figure of one layout (what ``couple`` prints and the UI panel shows)."""
+
+    victims: tuple[VictimFigure, ...]
+    sharing: SharingResult
+    loops: tuple[str, ...]
+    mutual_H_per_m: np.ndarray  # (L, L)
+    sharing_used: bool  # victim EMF computed with the solved currents
+    earth_y_mm: float | None = None
+    notes: tuple[str, ...] = field(default=())
+
+    def to_json(self) -> dict:
+        """The ``couple --json`` object (docs/json.md; keys may be added, never renamed)."""
+        s = self.sharing
+        return {
+            "victims": [
+                {"circuit": v.circuit, "induced_mV_per_m": v.induced_mV_per_m,
+                 "length_m": v.length_m, "induced_V": v.induced_V,
+                 "finite_length_factor": v.finite_length_factor,
+                 "earth_loop_mV_per_m": v.earth_loop_mV_per_m,
+                 "earth_loop_V": v.earth_loop_V,
+                 "harmonics": [{"order": p.order, "frequency_hz": p.frequency_hz,
+                                "induced_mV_per_m": p.induced_mV_per_m}
+                               for p in v.harmonics]}
+                for v in self.victims
+            ],
+            "sharing": [
+                {"conductor": c.conductor, "circuit": c.circuit, "phase": c.phase,
+                 "current_a": c.current_a, "angle_deg": c.angle_deg,
+                 "share_pct": c.share_pct, "current_rms_a": c.current_rms_a}
+                for c in s.shares
+            ],
+            "groups": [
+                {"circuit": g.circuit, "phase": g.phase, "conductors": list(g.conductors),
+                 "current_a": g.current_a, "order": g.order,
+                 "imbalance_pct": g.imbalance_pct, "reactance_only": g.reactance_only}
+                for g in s.groups
+            ],
+            "reactance_only": s.reactance_only,
+            "temperature_c": s.temperature_c,
+            "sharing_used_for_victims": self.sharing_used,
+            "earth_y_mm": self.earth_y_mm,
+            "loops": list(self.loops),
+            "mutual_uH_per_m": (self.mutual_H_per_m * UH).tolist(),
+            "notes": list(self.notes),
+        }
+
+
+def coupling_summary(layout: Layout, length_m: float | None = None, sharing: bool = True,
+                     temperature_c: float = DEFAULT_TEMPERATURE_C,
+                     earth_y_mm: float | None = None) -> CouplingSummary:
+    """Loop inductances, victim EMF and current sharing of one layout.
+
+    Parameters
+    ----------
+    layout : Layout
+    length_m : float, optional
+        Run length for victims without their own ``length_m``.
+    sharing : bool
+        Compute the victim EMF with the solved sharing currents (True) or with equal shares.
+        The sharing table is reported either way.
+    temperature_c : float
+        Conductor temperature for R', °C.
+    earth_y_mm : float, optional
+        Earth reference height for the screen/earth loop (see :func:`induced_emf`).
+    """
+    shares = solve_sharing(layout, temperature_c)
+    overrides = shares.overrides() if sharing else None
+    if earth_y_mm is None:
+        earth_y_mm = layout.earth_y_mm
+    victims = induced_emf(layout, length_m, overrides, earth_y_mm)
+    names, m = loop_inductance_matrix(layout)
+    notes: list[str] = ["R' is the DC resistance (skin and proximity effect left out)"]
+    if shares.reactance_only:
+        rx = ", ".join(f"{g.circuit} {g.phase}" for g in shares.groups if g.reactance_only)
+        notes.append(f"reactance-only sharing (no conductor area given): {rx}")
+    if shares.gmr_from_overall:
+        notes.append("self inductance from the overall diameter (no area given): "
+                     + ", ".join(shares.gmr_from_overall))
+    return CouplingSummary(tuple(victims), shares, names, m, sharing,
+                           None if earth_y_mm is None else float(earth_y_mm), tuple(notes))
