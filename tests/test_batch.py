@@ -1,10 +1,11 @@
-"""Batch `field` (and `rank` once it lands): parallel runs equal single runs; bad files."""
+"""Batch `field` and `rank`: parallel runs equal single runs; bad files get error rows."""
 
 from __future__ import annotations
 
 import csv
 import io
 import json
+from dataclasses import replace
 from functools import partial
 from pathlib import Path
 
@@ -17,70 +18,33 @@ from trayadvisor.batch import (
     field_job,
     run_files,
     run_one,
+    summary_csv,
 )
-from trayadvisor.cli.batch_runs import ProgressBar, summary_csv
+from trayadvisor.cli.batch_runs import ProgressBar
 from trayadvisor.cli.main import main
+from trayadvisor.layoutfile import read_layout, write_layout
+from trayadvisor.model import Limit
 
-ROOT = Path(__file__).resolve().parents[1]
-HAS_RANK = (ROOT / "trayadvisor" / "cli" / "cmd_rank.py").exists()
-
-TEMPLATE = """format = "trayadvisor/1"
-title = "batch case {i}"
-frequency_hz = {f}
-
-[[tray]]
-name = "T1"
-x_mm = 0.0
-y_mm = 0.0
-width_mm = 400.0
-depth_mm = 60.0
-
-[[circuit]]
-name = "F1"
-system = "ac3"
-current_a = {current}
-
-[[conductor]]
-name = "A"
-circuit = "F1"
-phase = "L1"
-x_mm = 30.0
-y_mm = 15.0
-diameter_mm = 30.0
-
-[[conductor]]
-name = "B"
-circuit = "F1"
-phase = "{second}"
-x_mm = {xb}
-y_mm = 15.0
-diameter_mm = 30.0
-
-[[conductor]]
-name = "C"
-circuit = "F1"
-phase = "{third}"
-x_mm = {xc}
-y_mm = 15.0
-diameter_mm = 30.0
-
-[[limit]]
-name = "target"
-ut = {limit}
-"""
+BASE = Path(__file__).parent / "data" / "three-flat.toml"  # one flat ac3 set in a tray
 
 
 def write_cases(folder: Path, n: int) -> list[Path]:
-    """n distinct small layouts (current, spacing, phase order, frequency vary)."""
+    """n distinct small layouts (current, spacing, phase order, frequency, limit vary)."""
     folder.mkdir(parents=True, exist_ok=True)
+    base = read_layout(BASE)
+    tray = replace(base.trays[0], width_mm=400.0)
     paths = []
     for i in range(n):
+        a, b, c = base.conductors
         order = ("L2", "L3") if i % 2 == 0 else ("L3", "L2")
-        text = TEMPLATE.format(i=i, f=50 if i % 3 else 60, current=100.0 + 37.0 * i,
-                               second=order[0], third=order[1], xb=70.0 + 3 * i,
-                               xc=140.0 + 11 * i, limit=0.5 + i)
+        cons = (a.moved(30.0, 15.0), replace(b.moved(70.0 + 3 * i, 15.0), phase=order[0]),
+                replace(c.moved(140.0 + 11 * i, 15.0), phase=order[1]))
+        layout = replace(base, title=f"batch case {i}", frequency_hz=50.0 if i % 3 else 60.0,
+                         trays=(tray,), conductors=cons,
+                         circuits=(replace(base.circuits[0], current_a=100.0 + 37.0 * i),),
+                         limits=(Limit("target", 0.5 + i),))
         p = folder / f"case{i:02d}.toml"
-        p.write_text(text, encoding="utf-8")
+        write_layout(layout, p)
         paths.append(p)
     return paths
 
@@ -236,7 +200,6 @@ def test_progress_bar_draws_only_on_a_terminal():
     assert "2/2 (1 failed)" in live.getvalue() and "[" + "#" * 30 + "]" in live.getvalue()
 
 
-@pytest.mark.skipif(not HAS_RANK, reason="cmd_rank.py has not landed yet")
 def test_rank_batch_equals_single_runs(tmp_path, capsys):
     paths = write_cases(tmp_path / "in", 4)
     out = tmp_path / "rank.csv"

@@ -7,55 +7,18 @@ import subprocess
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
+from references import MU0
 
 from trayadvisor.cli.main import main
 from trayadvisor.engine import stray_uT
-from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.layoutfile import read_layout
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
 
-BASE = """format = "trayadvisor/1"
-title = "contract base"
-frequency_hz = 50
-
-[[tray]]
-name = "T1"
-x_mm = 0.0
-y_mm = 0.0
-width_mm = 300.0
-depth_mm = 60.0
-
-[[circuit]]
-name = "F1"
-system = "ac3"
-current_a = 100.0
-
-[[conductor]]
-name = "A"
-circuit = "F1"
-phase = "L1"
-x_mm = 50.0
-y_mm = 15.0
-diameter_mm = 30.0
-
-[[conductor]]
-name = "B"
-circuit = "F1"
-phase = "L2"
-x_mm = 100.0
-y_mm = 15.0
-diameter_mm = 30.0
-
-[[conductor]]
-name = "C"
-circuit = "F1"
-phase = "L3"
-x_mm = 150.0
-y_mm = 15.0
-diameter_mm = 30.0
-"""
+BASE = (ROOT / "tests" / "data" / "three-flat.toml").read_text(encoding="utf-8")
 
 
 def line_of(text: str, needle: str, occurrence: int = 1) -> int:
@@ -106,7 +69,8 @@ def test_python_dash_m_and_console_script_agree():
     assert res.returncode == 0 and "ok" in res.stdout
 
 
-# Every bad-input case of SPEC.md: (name, edit of BASE, needle marking the expected line, words)
+# Every bad-input case of docs/file-format.md "Checks": (name, edit of BASE, needle marking
+# the expected line, words)
 BAD = [
     ("unknown top key", lambda t: t.replace('title = "contract base"',
                                             'title = "contract base"\ncolour = 3'),
@@ -177,3 +141,21 @@ def test_missing_file_is_a_clean_error(tmp_path, capsys):
 def test_bad_options_are_clean_errors(capsys, argv):
     code, out, err = run_cli(capsys, "field", str(DEMO), *argv)
     assert code == 2 and out == "" and len(err.strip().splitlines()) == 1
+
+
+def test_envelope_without_a_tray_is_around_the_outer_circles(capsys):
+    # A go/return pair at x = ±s, radius r, no tray: the curve at d runs at h = r + d above
+    # the pair's axis, and on it the field peaks above the middle, where each conductor is
+    # ρ² = s² + h² away. Source: B = μ0 I / (2π ρ) per line current (common practice); the
+    # two horizontal parts add, the vertical ones cancel: B = μ0 I s / (π ρ²).
+    # (An envelope around the centres instead of the outer circles gives h = d, 15 % more.)
+    s, r, d, current = 0.030, 0.015, 0.200, 100.0
+    h = r + d
+    want_uT = MU0 * current * s / (np.pi * (s * s + h * h)) * 1e6
+    code, out, _ = run_cli(capsys, "field", str(ROOT / "tests" / "data" / "pair-no-tray.toml"),
+                           "--distance-mm", str(d * 1e3), "--json")
+    assert code == 0
+    data = json.loads(out)
+    assert data["max_resultant_uT"] == pytest.approx(want_uT, rel=1e-9)
+    assert abs(data["max_at_mm"][0]) < 1e-3 and abs(data["max_at_mm"][1]) == pytest.approx(
+        h * 1e3, abs=1e-6)

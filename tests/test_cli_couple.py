@@ -11,37 +11,8 @@ from trayadvisor.cli.main import main
 from trayadvisor.coupling import coupling_summary
 from trayadvisor.layoutfile.reader import read_layout
 
-# An invented tray: one feeder in two parallel sets and an instrument pair beside it.
-LAYOUT = """format = "trayadvisor/1"
-title = "couple contract"
-frequency_hz = 50
-
-[[circuit]]
-name = "M1"
-system = "ac3"
-current_a = 500.0
-harmonics = { 5 = 0.2 }
-
-[[circuit]]
-name = "S4"
-system = "signal"
-length_m = 35.0
-
-[[circuit]]
-name = "S5"
-system = "signal"
-"""
-ROW = [("M1-L1a", "L1", 20), ("M1-L2a", "L2", 50), ("M1-L3a", "L3", 80), ("M1-L1b", "L1", 110),
-       ("M1-L2b", "L2", 140), ("M1-L3b", "L3", 170)]
-for name, phase, x in ROW:
-    LAYOUT += (f'\n[[conductor]]\nname = "{name}"\ncircuit = "M1"\nphase = "{phase}"\n'
-               f"x_mm = {x}.0\ny_mm = 14.0\ndiameter_mm = 28.0\narea_mm2 = 185.0\n"
-               'material = "copper"\n')
-for name, circ, phase, x in [("S4-a", "S4", "a", 230), ("S4-b", "S4", "b", 240),
-                             ("S5-a", "S5", "a", 300), ("S5-b", "S5", "b", 300)]:
-    y = 4.0 if name != "S5-b" else 14.0
-    LAYOUT += (f'\n[[conductor]]\nname = "{name}"\ncircuit = "{circ}"\nphase = "{phase}"\n'
-               f"x_mm = {x}.0\ny_mm = {y}\ndiameter_mm = 6.0\n")
+# An invented tray: one feeder in two parallel sets and two instrument pairs beside it.
+LAYOUT = (Path(__file__).parent / "data" / "two-sets-signal.toml").read_text(encoding="utf-8")
 
 
 @pytest.fixture
@@ -71,7 +42,7 @@ def test_json_shape_and_values_are_the_core_call(capsys, layout_file):
     assert v["S5"]["induced_V"] > 0
     assert [h["order"] for h in v["S4"]["harmonics"]] == [1, 5]
     shares = {s["conductor"]: s for s in data["sharing"]}
-    assert set(shares) == {n for n, _, _ in ROW}
+    assert set(shares) == {f"M1-L{k}{s}" for k in (1, 2, 3) for s in "ab"}  # the two sets
     for s in shares.values():
         assert {"current_a", "angle_deg", "share_pct"} <= set(s)
     for g in data["groups"]:

@@ -7,55 +7,27 @@ import os
 import signal
 import subprocess
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 
 from trayadvisor.cli.main import main
 from trayadvisor.engine import stray_uT
-from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.layoutfile import dumps_layout, read_layout
 
-HEAD = """format = "trayadvisor/1"
-title = "Invented workshop feeder"
-frequency_hz = 50
-
-[[tray]]
-name = "T1"
-x_mm = 0.0
-y_mm = 0.0
-width_mm = {width}
-depth_mm = 80.0
-
-[[circuit]]
-name = "M1"
-system = "ac3"
-current_a = 600.0
-
-[[line]]
-name = "wall"
-x0_mm = -200.0
-y0_mm = 500.0
-x1_mm = 800.0
-y1_mm = 500.0
-samples = 51
-"""
-
-COND = """
-[[conductor]]
-name = "M1-{phase}{n}"
-circuit = "M1"
-phase = "{phase}"
-x_mm = {x}
-y_mm = 15.0
-diameter_mm = 30.0
-"""
+FEEDER = Path(__file__).parent / "data" / "workshop-feeder.toml"  # two sets, 400 mm tray
 
 
 def layout_text(n_sets: int = 2, width: float = 400.0) -> str:
-    text = HEAD.format(width=width)
-    for i in range(3 * n_sets):
-        text += COND.format(phase=("L1", "L2", "L3")[i % 3], n=i // 3, x=30.0 + 30.0 * i)
-    return text
+    """The feeder of ``FEEDER`` with ``n_sets`` sets laid side by side, 30 mm apart."""
+    base = read_layout(FEEDER)
+    pattern = base.conductors[:3]  # L1, L2, L3 of the first set
+    cons = tuple(c.__class__(f"M1-{c.phase}{i // 3}", c.circuit, c.phase, 30.0 + 30.0 * i,
+                             c.y_mm, c.diameter_mm)
+                 for i, c in ((i, pattern[i % 3]) for i in range(3 * n_sets)))
+    tray = replace(base.trays[0], width_mm=width)
+    return dumps_layout(replace(base, trays=(tray,), conductors=cons))
 
 
 @pytest.fixture

@@ -148,6 +148,7 @@ def test_fixed_conductors_never_move():
     lay = mixed()
     res = rank_layout(lay, top_k=6)
     fixed = {c.name: (c.x_mm, c.y_mm) for c in lay.conductors if c.fixed}
+    assert len(fixed) == 3 and len(res.options) == 6  # not vacuous: options to look at
     for o in res.options:
         assert set(o.positions) == {c.name for c in lay.conductors}
         assert {n: o.positions[n] for n in fixed} == fixed
@@ -169,6 +170,7 @@ def test_bundles_stay_together():
 def test_no_two_options_are_twins():
     lay = flat_sets(4)
     res = rank_layout(lay, top_k=10)
+    assert len(res.options) == 10  # 34 650 distinct arrangements: ten options to compare
     seen = set()
     for o in res.options:
         row = tuple(c.phase for c in sorted(lay.conductors, key=lambda c: o.positions[c.name]))

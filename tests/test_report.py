@@ -25,7 +25,6 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
 X = "{http://www.w3.org/1999/xhtml}"
 S = "{http://www.w3.org/2000/svg}"
-HAS_RANK_CLI = (ROOT / "trayadvisor" / "cli" / "cmd_rank.py").exists()
 PICTURES = {"section", "contours", "profile", "distance", "options"}
 
 
@@ -178,7 +177,6 @@ def test_rank_numbers_equal_the_ranking(html_report):
     assert [r[2].text for r in rows[1:]] == [num(o["reduction_pct"], 3) for o in core["options"]]
 
 
-@pytest.mark.skipif(not HAS_RANK_CLI, reason="cmd_rank.py has not landed yet")
 def test_rank_numbers_equal_rank_json(html_report, capsys):
     _, root = html_report
     cli = cli_json(capsys, "rank", str(DEMO), "--top", "6")

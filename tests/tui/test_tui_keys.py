@@ -9,6 +9,7 @@ import pytest
 from textual import events
 from tuihelpers import SIZE, settle
 
+from trayadvisor.analysis import field_summary
 from trayadvisor.tui import make_app
 from trayadvisor.tui.screens.base import WorkScreen
 
@@ -58,9 +59,25 @@ async def test_500_random_keys_never_raise(tmp_path: Path,
         # Whatever happened, the model on show is still a consistent Layout.
         doc = app.document
         assert doc.selected is None or doc.selected in {c.name for c in doc.layout.conductors}
-        while not isinstance(app.screen, WorkScreen):
+        # Escape leads back to a view from wherever the keys left the app, in a few presses.
+        for _ in range(8):
+            if isinstance(app.screen, WorkScreen):
+                break
             await pilot.press("escape")
-        assert isinstance(app.screen, WorkScreen)
+            await settle(app, pilot)
+        assert isinstance(app.screen, WorkScreen), type(app.screen).__name__
+        # A model with problems shows them; undo walks back to a valid model (the demo was
+        # one), whose readout is the figure of the model on show, not of an earlier edit.
+        assert app.problems == [e.message for e in doc.problems()]
+        for _ in range(doc.generation + 1):
+            if not app.problems:
+                break
+            await pilot.press("ctrl+z")
+            await settle(app, pilot)
+        assert app.problems == []
+        want = field_summary(doc.layout, distance_mm=app.settings.distance_mm)
+        assert app.summary is not None
+        assert app.summary.max_resultant_uT == pytest.approx(want.max_resultant_uT, rel=1e-12)
 
 
 async def test_keymap_file_overrides_a_key(tmp_path: Path, demo_copy: Path,

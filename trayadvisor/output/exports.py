@@ -37,7 +37,7 @@ def export_format(path: str | os.PathLike[str]) -> str:
     """The format for ``path`` by its extension, or :class:`ExportError`."""
     ext = Path(path).suffix.lower()
     if ext not in FORMATS:
-        raise ExportError(f"--out {os.fspath(path)}: unknown extension "
+        raise ExportError(f"{os.fspath(path)}: unknown extension "
                           f"'{ext or '(none)'}'; use .csv, .json or .md")
     return FORMATS[ext]
 
