@@ -1,4 +1,4 @@
-"""Contract tests of `check` and `field` (SPEC.md "Command line" and "JSON shapes")."""
+"""Contract tests of `check` and `field` (docs/cli.md and docs/json.md)."""
 
 from __future__ import annotations
 
@@ -47,7 +47,7 @@ def test_field_json_shape_and_value(capsys):
     for key in ("distance_mm", "max_resultant_uT", "max_at_mm", "far_field_order", "points"):
         assert key in data
     assert data["distance_mm"] == 500.0
-    assert len(data["points"]) == 2  # one entry per --at (SPEC)
+    assert len(data["points"]) == 2  # one entry per --at (docs/json.md)
     assert {"x_mm", "y_mm", "resultant_uT", "max_uT"} <= set(data["points"][0])
     assert data["points"][0]["x_mm"] == 300.0
     # the JSON figure is the same engine call the UI makes

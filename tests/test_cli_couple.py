@@ -34,7 +34,7 @@ def test_json_shape_and_values_are_the_core_call(capsys, layout_file):
     data = json.loads(out)
     ref = coupling_summary(read_layout(layout_file), length_m=12.0).to_json()
     assert data == json.loads(json.dumps(ref))
-    # SPEC shape: keys may be added, never renamed
+    # docs/json.md shape: keys may be added, never renamed
     v = {x["circuit"]: x for x in data["victims"]}
     assert set(v) == {"S4", "S5"} and "induced_mV_per_m" in v["S4"]
     assert v["S4"]["length_m"] == 35.0  # the circuit's own length_m

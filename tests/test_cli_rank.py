@@ -1,4 +1,4 @@
-"""Contract tests of `trayadvisor rank` (SPEC.md "Command line" and "rank --json")."""
+"""Contract tests of `trayadvisor rank` (docs/cli.md and docs/json.md "rank --json")."""
 
 from __future__ import annotations
 
@@ -47,7 +47,7 @@ def test_json_shape_and_values(capsys, lay_file):
     rc, out, err = run(capsys, lay_file, "--json", "--top", "3")
     assert rc == 0 and err == ""
     data = json.loads(out)
-    # Source: SPEC.md rank --json: distance_mm, method, evaluated, options[rank,
+    # Source: docs/json.md rank --json: distance_mm, method, evaluated, options[rank,
     # max_resultant_uT, conductors[name, x_mm, y_mm]]; every conductor in every option.
     assert data["distance_mm"] == 500.0 and data["method"] == "exhaustive"
     assert data["evaluated"] == data["distinct"] == 90  # Source: 6!/(2!2!2!) = 90

@@ -51,7 +51,7 @@ def test_csv_has_a_row_per_option_and_conductor(ranked):
 def test_json_is_the_rank_json_shape(ranked):
     lay, res = ranked
     data = json.loads(result_json(res))
-    # Source: SPEC.md "rank --json" shape (keys may be added, never renamed).
+    # Source: docs/json.md "rank --json" shape (keys may be added, never renamed).
     for key in ("distance_mm", "method", "evaluated", "options"):
         assert key in data
     first = data["options"][0]

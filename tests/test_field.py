@@ -64,7 +64,7 @@ def points_outside(rng, xy, rad, k, box=1.5, clearance=1.5):
 
 def test_mu0_is_codata():
     # Source: CODATA 2022, μ0 = 1.256 637 061 27(20) × 10⁻⁶ N·A⁻² (via scipy.constants;
-    # value from memory agrees) and SPEC: within 1e-9 of 4π × 10⁻⁷.
+    # value from memory agrees) and the classical 4π × 10⁻⁷ within 1e-9.
     assert abs(MU0 - 4e-7 * np.pi) / (4e-7 * np.pi) < 1e-9
     assert MU0 == pytest.approx(1.25663706127e-6, rel=1e-11)
     assert K_LINE == pytest.approx(2e-7, rel=1e-9)  # μ0/(2π) = 2e-7 T·m/A — common practice
@@ -142,7 +142,7 @@ def test_agrees_with_magpylib(seed):
     theirs = re[:, :2] + 1j * im[:, :2]
     err = np.sqrt(np.sum(np.abs(ours - theirs) ** 2, axis=1))
     size = np.sqrt(np.sum(np.abs(theirs) ** 2, axis=1))
-    assert np.max(err / size) < 1e-6  # Source: magpylib 6 (independent solver), SPEC
+    assert np.max(err / size) < 1e-6  # Source: magpylib 6 (independent solver)
 
 
 # -- far field: order and coefficient -------------------------------------------------------

@@ -287,3 +287,16 @@ def test_no_movable_conductor_gives_the_file_arrangement():
     assert res.distinct == 1 and len(res.options) == 1
     assert res.options[0].reduction_pct == 0.0
     assert res.options[0].max_resultant_uT == pytest.approx(res.baseline_uT, rel=1e-12)
+
+
+def test_sketch_of_a_crowded_single_row_does_not_fail():
+    # 48 conductors in one row: more tags than columns; every tag must still be written.
+    from trayadvisor.model import Circuit, Conductor, Layout, Tray
+    from trayadvisor.ranking import sketch_text
+
+    cs = [Conductor(f"c{i}", "F1", ("L1", "L2", "L3")[i % 3], 20.0 + 20.0 * i, 10.0, 20.0)
+          for i in range(48)]
+    lay = Layout(trays=(Tray("T", 0.0, 0.0, 1000.0, 40.0),),
+                 circuits=(Circuit("F1", "ac3", 100.0),), conductors=tuple(cs))
+    text = sketch_text(lay, {c.name: (c.x_mm, c.y_mm) for c in cs})
+    assert sum(text.splitlines()[0].count(t) for t in ("L1", "L2", "L3")) == 48

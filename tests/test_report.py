@@ -105,7 +105,7 @@ def test_cautions_in_full(html_report):
     section = root.find(f".//{X}section[@id='cautions']")
     paras = [p.text for p in section.findall(f"{X}p")]
     assert paras == list(CAUTIONS)
-    # SPEC.md "Cautions": the three points, each present in full
+    # The cautions (README, docs/conventions.md): the three points, each present in full
     for words in ("long straight conductors in free space", "IEC 61786",
                   "ampacity, grouping derating, voltage drop, fault withstand",
                   "licensed practice", "active implanted medical devices"):

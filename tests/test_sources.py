@@ -39,7 +39,7 @@ def by_name(src, order):
 
 def test_fundamental_phase_angles():
     # Source: common practice (IEC phase sequence L1-L2-L3; L2 lags L1 by 120°): L1 0°,
-    # L2 −120°, L3 +120° (SPEC conventions).
+    # L2 −120°, L3 +120° (docs/conventions.md).
     src = layout_sources(ac3_layout(current=400.0))
     i = by_name(src, 1)
     assert i["L10"] == pytest.approx(400.0)
@@ -97,7 +97,7 @@ def test_parallel_sets_share_equally_and_explicit_override():
 
 
 def test_dc_sign_convention():
-    # SPEC: dc + = +I, − = −I, a real current at frequency 0 (DC is one real problem).
+    # docs/conventions.md: dc + = +I, − = −I, a real current at frequency 0 (one real problem).
     circ = Circuit("B1", "dc", current_a=200.0)
     lay = Layout(frequency_hz=60.0, circuits=(circ,),
                  conductors=(cond("p", "B1", "+", 20.0), cond("m", "B1", "-", 60.0)))

@@ -24,7 +24,7 @@ from trayadvisor.model import Layout
 from trayadvisor.tui.logic.mapscale import SHADES, MapScale, iso_digits
 from trayadvisor.tui.logic.viewport import Bounds, Viewport
 
-#: One glyph per phase label (SPEC phases), so phases read without colour.
+#: One glyph per phase label (the format's phases), so phases read without colour.
 PHASE_GLYPH: dict[str, str] = {"L1": "1", "L2": "2", "L3": "3", "N": "n", "PE": "e",
                                "L": "L", "+": "+", "-": "−", "a": "a", "b": "b"}
 #: Circuit tags, in circuit order: A, B, C, ...
