@@ -57,9 +57,9 @@ def single_json(capsys, path: Path, *extra: str) -> dict:
 @pytest.mark.parametrize("mode", ["adaptive", "workers"])
 def test_batch_of_20_equals_20_single_runs(tmp_path, capsys, monkeypatch, mode):
     if mode == "workers":  # every file in the process pool, none in this process
-        import trayadvisor.cli.batch_runs as batchcmd
+        import trayadvisor.cli.batch_runs as batch_runs
 
-        monkeypatch.setattr(batchcmd, "run_files", partial(run_files, serial_first_s=0.0))
+        monkeypatch.setattr(batch_runs, "run_files", partial(run_files, serial_first_s=0.0))
     paths = write_cases(tmp_path / "in", 20)
     out = tmp_path / "summary.csv"
     assert main(["field", str(tmp_path / "in"), "--distance-mm", "300", "--at", "100,400",

@@ -73,7 +73,7 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         assert app.document.undo_label == "apply ranked option 1"
         shown = app.summary.max_resultant_uT
         assert shown == pytest.approx(opt.max_resultant_uT, rel=1e-6)
-        # Reference: trayadvisor.analysis.summary.stray_uT, what `trayadvisor field` reports.
+        # Reference: trayadvisor.engine.stray_uT, what `trayadvisor field` reports.
         assert shown == pytest.approx(stray_uT(app.document.layout, 400.0), rel=1e-6)
         assert f"{fmt_uT(opt.max_resultant_uT)} µT" in text_of(app, "#readout")
 

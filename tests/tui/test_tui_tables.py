@@ -56,6 +56,23 @@ def test_rank_params_check_their_values() -> None:
     assert usable_params(RankParams(3, "point:QR-desk"), DEMO).objective == "point:QR-desk"
 
 
+def test_the_ranking_view_makes_the_call_the_rank_command_makes() -> None:
+    # The same keyword arguments as `trayadvisor rank FILE --distance-mm 400 --top 3
+    # --objective line:QR-wall --budget-s 2`; every option the view does not set is at the
+    # value the command gives it when its flag is absent, i.e. rank_layout's default.
+    import inspect
+
+    from trayadvisor.cli import cmd_rank, parse_args
+
+    view = RankParams(3, "line:QR-wall", 2.0).options(400.0)
+    cli = cmd_rank.options(parse_args(["rank", "x.toml", "--distance-mm", "400", "--top", "3",
+                                       "--objective", "line:QR-wall", "--budget-s", "2"]))
+    defaults = {k: p.default for k, p in inspect.signature(rank_layout).parameters.items()}
+    assert {k: cli[k] for k in view} == view
+    assert {k: v for k, v in cli.items() if k not in view} == {
+        k: defaults[k] for k in cli if k not in view}
+
+
 def test_rows_carry_the_engine_figures_and_the_exporters_moves() -> None:
     r = rank_layout(SMALL, distance_mm=500.0, top_k=4)
     assert [c.label for c in columns(r)][:2] == ["#", "µT"]

@@ -14,7 +14,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import brentq
 
 from trayadvisor.engine.field import phasor_field, resultant_rms
 
@@ -308,6 +307,9 @@ def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env:
     """
     if not limit_T > 0.0:
         raise ValueError(f"limit must be > 0 T, got {limit_T!r}")
+    # scipy.optimize costs about 0.3 s to import; only a clearance search needs it, so the
+    # command line and the UI start without it.
+    from scipy.optimize import brentq
     cache: dict[float, float] = {}
 
     def peak(d: float) -> float:

@@ -1,9 +1,10 @@
 """The field work the views need, as plain functions a worker thread runs.
 
-Every figure comes from the same calls the CLI makes (:func:`trayadvisor.analysis.summary.
-field_summary` and :func:`~trayadvisor.analysis.summary.field_grid_uT`), so the UI and the CLI
-cannot disagree. Results go out through ``emit`` one stage at a time, the cheap ones first,
-and the work stops between stages once ``cancelled()`` says a newer request exists.
+Every figure comes from the same calls the CLI makes
+(:func:`trayadvisor.analysis.field_summary` and :func:`trayadvisor.engine.field_grid_uT`),
+so the UI and the CLI cannot disagree. Results go out through ``emit`` one stage at a
+time, the cheap ones first, and the work stops between stages once ``cancelled()`` says a
+newer request exists.
 No textual here.
 """
 

@@ -1,6 +1,6 @@
 """The Coupling view's lines: victim EMF and current sharing, worst values marked in words.
 
-Every number is a field of :meth:`trayadvisor.coupling.victims.CouplingSummary.to_json` (the object
+Every number is a field of :meth:`trayadvisor.coupling.CouplingSummary.to_json` (the object
 ``trayadvisor couple --json`` prints), formatted here; nothing is computed but the choice
 of which value is the worst. No textual here.
 """

@@ -1,7 +1,8 @@
 """The Ranking view's run parameters, table rows and run summary, as plain functions.
 
-Every figure shown is the ranking engine's own (:func:`trayadvisor.ranking.rank.rank_layout`,
-the call ``trayadvisor rank`` makes); this module only formats them and decides whether a
+Every figure shown is the ranking engine's own (:func:`trayadvisor.ranking.rank_layout`,
+the call ``trayadvisor rank`` makes, with the keyword arguments of
+:meth:`RankParams.options`); this module only formats them and decides whether a
 result still fits the layout on screen. No textual here.
 """
 
@@ -51,6 +52,13 @@ class RankParams:
         if o is not None and (o.partition(":")[0] not in ("line", "point")
                               or not o.partition(":")[2]):
             raise ValueError("objective: the contour, line:NAME or point:NAME")
+
+    def options(self, distance_mm: float) -> dict:
+        """The keyword arguments of :func:`trayadvisor.ranking.rank_layout` for this run,
+        as ``trayadvisor rank --distance-mm D --top K [--objective …] [--budget-s S]``
+        gives them."""
+        return {"distance_mm": float(distance_mm), "top_k": self.top_k,
+                "objective": self.objective, "budget_s": self.budget_s}
 
 
 def objective_choices(layout: Layout) -> list[tuple[str, str]]:

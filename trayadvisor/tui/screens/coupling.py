@@ -1,6 +1,6 @@
 """The Coupling view: victim EMF and current sharing beside the cross-section, while editing.
 
-The figures are :func:`trayadvisor.coupling.victims.coupling_summary` of the model on show (the
+The figures are :func:`trayadvisor.coupling.coupling_summary` of the model on show (the
 call ``trayadvisor couple`` makes), recomputed in a worker thread after every edit; a
 newer result replaces a queued older one, and a result for an older model is dropped. The
 canvas and the editing keys are the Section view's, so conductors can be moved while the

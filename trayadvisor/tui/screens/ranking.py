@@ -1,11 +1,11 @@
 """The Ranking view: rank arrangements of the open layout, preview one, apply it, save them.
 
-The search is :func:`trayadvisor.ranking.rank.rank_layout` (the call ``trayadvisor rank``
+The search is :func:`trayadvisor.ranking.rank_layout` (the call ``trayadvisor rank``
 makes) in a worker thread: its progress callback posts coalesced messages to the progress
 bar, and the stop key sets the event its cancel callback polls, so a stopped run keeps the
 best arrangements found so far. The options are listed with the engine's figures; the
 highlighted one is drawn in the preview, and applying it is one undoable edit
-(:func:`trayadvisor.ranking.rank.apply_option` through ``TrayApp.apply_edit``). Saving writes
+(:func:`trayadvisor.ranking.apply_option` through ``TrayApp.apply_edit``). Saving writes
 the options with :func:`trayadvisor.output.exports.write_result` (CSV, JSON or Markdown by
 extension, atomically).
 """
@@ -267,9 +267,7 @@ class RankingScreen(WorkScreen):
             self.post_message(RankProgress(run, fraction, text))
 
         try:
-            result = rank_layout(layout, distance_mm=distance_mm, top_k=params.top_k,
-                                 objective=params.objective, budget_s=params.budget_s,
-                                 progress=progress,
+            result = rank_layout(layout, **params.options(distance_mm), progress=progress,
                                  cancel=lambda: stop.is_set() or worker.is_cancelled)
         except RankError as err:
             self.post_message(RankFinished(run, layout, params, None, str(err)))
