@@ -11,7 +11,9 @@ import numpy as np
 import pytest
 from references import MU0
 
+from trayadvisor.analysis import field_summary
 from trayadvisor.cli.main import main
+from trayadvisor.coupling import solved_sources
 from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile import read_layout
 
@@ -50,10 +52,32 @@ def test_field_json_shape_and_value(capsys):
     assert len(data["points"]) == 2  # one entry per --at (docs/json.md)
     assert {"x_mm", "y_mm", "resultant_uT", "max_uT"} <= set(data["points"][0])
     assert data["points"][0]["x_mm"] == 300.0
-    # the JSON figure is the same engine call the UI makes
-    assert data["max_resultant_uT"] == pytest.approx(stray_uT(read_layout(DEMO), 500.0), 1e-12)
+    # the JSON figure is the same core call the UI makes, with the solved currents
+    layout = read_layout(DEMO)
+    assert data["currents"] == "solved"
+    assert data["max_resultant_uT"] == field_summary(layout, distance_mm=500.0).max_resultant_uT
+    assert data["max_resultant_uT"] == pytest.approx(
+        stray_uT(layout, 500.0, solved_sources(layout)), rel=1e-12)
     lim = [x for x in data["limits"] if x["name"] == "--limit-ut"][0]
     assert lim["pass"] is (data["max_resultant_uT"] <= 1.0)
+    # every conductor at every component, and the parallel L1 pair shares unevenly
+    cur = {(c["name"], c["order"]): c for c in data["conductor_currents"]}
+    assert len(cur) == len(layout.conductors) * len({o for _, o in cur})
+    assert cur["F1-L1a", 1]["current_a"] != pytest.approx(cur["F1-L1b", 1]["current_a"],
+                                                          rel=1e-3)
+
+
+def test_equal_shares_reproduce_the_equal_share_figures(capsys):
+    code, out, _ = run_cli(capsys, "field", str(DEMO), "--equal-shares", "--json")
+    assert code == 0
+    data = json.loads(out)
+    layout = read_layout(DEMO)
+    assert data["currents"] == "equal"
+    assert data["max_resultant_uT"] == pytest.approx(stray_uT(layout, 500.0), rel=1e-12)
+    cur = {(c["name"], c["order"]): c["current_a"] for c in data["conductor_currents"]}
+    assert cur["F1-L1a", 1] == pytest.approx(cur["F1-L1b", 1], rel=1e-12) == 315.0
+    code, _, err = run_cli(capsys, "field", str(DEMO), "--equal-shares", "--sharing")
+    assert code == 2 and "contradict" in err
 
 
 def test_field_human_output_names_cautions(capsys):

@@ -13,6 +13,7 @@ from pathlib import Path
 import pytest
 
 from trayadvisor.cli.main import main
+from trayadvisor.coupling import solved_sources
 from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile import dumps_layout, read_layout
 
@@ -56,9 +57,10 @@ def test_json_shape_and_values(capsys, lay_file):
     for o in data["options"]:
         pos = {c["name"]: (c["x_mm"], c["y_mm"]) for c in o["conductors"]}
         assert set(pos) == {c.name for c in lay.conductors}
-        # Source: the `field` command's function on the option's positions.
+        # Source: the `field` command's figure on the option's positions (solved currents).
+        moved = lay.with_positions(pos)
         assert o["max_resultant_uT"] == pytest.approx(
-            stray_uT(lay.with_positions(pos), 500.0), rel=1e-6)
+            stray_uT(moved, 500.0, solved_sources(moved)), rel=1e-6)
 
 
 def test_text_output(capsys, lay_file):
@@ -131,7 +133,8 @@ def test_apply_writes_a_layout_with_that_option(capsys, lay_file):
     applied = read_layout(new)  # validates the written file
     want = {c["name"]: (c["x_mm"], c["y_mm"]) for c in option2["conductors"]}
     assert {c.name: (c.x_mm, c.y_mm) for c in applied.conductors} == want
-    assert stray_uT(applied, 500.0) == pytest.approx(option2["max_resultant_uT"], rel=1e-9)
+    assert stray_uT(applied, 500.0, solved_sources(applied)) == pytest.approx(
+        option2["max_resultant_uT"], rel=1e-9)
 
 
 def test_objective_line_and_slots(capsys, lay_file):

@@ -14,7 +14,7 @@ from references import (
 
 from trayadvisor.coupling import coupling_summary, loop_inductance_matrix
 from trayadvisor.coupling.constraints import imbalance_constraint, induced_voltage_constraint
-from trayadvisor.coupling.sharing import sharing_overrides, solve_sharing
+from trayadvisor.coupling.sharing import solve_sharing, solved_sources
 from trayadvisor.coupling.victims import induced_emf
 from trayadvisor.model import Circuit, Conductor, Layout
 
@@ -157,10 +157,11 @@ def test_summary_json_shape_and_sharing_feed():
     assert {"conductor", "current_a", "angle_deg", "share_pct"} <= set(j["sharing"][0])
     assert j["victims"][0]["induced_mV_per_m"] == s.victims[0].induced_mV_per_m
     equal = induced_emf(lay)[0].induced_mV_per_m
-    shared = induced_emf(lay, overrides=sharing_overrides(lay))[0].induced_mV_per_m
+    shared = induced_emf(lay, src=solved_sources(lay))[0].induced_mV_per_m
     assert s.victims[0].induced_mV_per_m == pytest.approx(shared, rel=1e-12)
     assert shared != pytest.approx(equal, rel=1e-3)  # uneven sharing changes the EMF
-    assert coupling_summary(lay, sharing=False).victims[0].induced_mV_per_m == equal
+    assert coupling_summary(lay, currents="equal").victims[0].induced_mV_per_m == equal
+    assert j["currents"] == "solved"
     m = np.array(j["mutual_uH_per_m"])
     assert m.shape == (3, 3) and np.array_equal(m, m.T)
 
@@ -168,7 +169,7 @@ def test_summary_json_shape_and_sharing_feed():
 def test_constraints_match_the_summary_and_follow_moves():
     bad = sets_with_victim("L1 L1 L2 L2 L3 L3")
     imb = imbalance_constraint(10.0)
-    emf = induced_voltage_constraint(0.5, sharing=True)
+    emf = induced_voltage_constraint(0.5)
     fig = imb(bad)
     assert fig.key == "imbalance_pct" and fig.worst.startswith("F1 ")
     assert fig.value == pytest.approx(max(g.imbalance_pct for g in solve_sharing(bad).groups),
@@ -185,7 +186,7 @@ def test_constraints_match_the_summary_and_follow_moves():
     assert imb(good_pos).value < 1e-9 and imb(good_pos).passes
     assert emf(good_pos).value == pytest.approx(coupling_summary(good).victims[0]
                                                 .induced_mV_per_m, rel=1e-12)
-    plain = induced_voltage_constraint(0.5)
+    plain = induced_voltage_constraint(0.5, currents="equal")
     assert plain(bad).value == pytest.approx(induced_emf(bad)[0].induced_mV_per_m, rel=1e-12)
     again = pickle.loads(pickle.dumps(imb))  # process pools can ship constraints
     assert again(bad).value == fig.value
@@ -195,7 +196,7 @@ def test_constraints_on_a_layout_without_victims_or_parallel_sets():
     lay = Layout(circuits=(Circuit("F", "ac1", 10.0),),
                  conductors=(Conductor("L", "F", "L", 0, 0, 10), Conductor("N", "F", "N",
                                                                             20, 0, 10)))
-    for c in (imbalance_constraint(1.0), induced_voltage_constraint(1.0, sharing=True)):
+    for c in (imbalance_constraint(1.0), induced_voltage_constraint(1.0)):
         f = c(lay)
         assert f.value == 0.0 and f.passes and f.worst == ""
     s = coupling_summary(lay)
@@ -209,8 +210,8 @@ def test_batched_constraint_values_equal_one_by_one():
     lays = [bad.with_positions({c.name: (c.x_mm, c.y_mm)
                                 for c in sets_with_victim(o).conductors}) for o in orders]
     xy = np.stack([[[c.x_mm * 1e-3, c.y_mm * 1e-3] for c in lay.conductors] for lay in lays])
-    for con in (imbalance_constraint(5.0), induced_voltage_constraint(1.0, sharing=True),
-                induced_voltage_constraint(1.0)):
+    for con in (imbalance_constraint(5.0), induced_voltage_constraint(1.0),
+                induced_voltage_constraint(1.0, currents="equal")):
         batch = con.values_batch(bad, xy)
         assert batch.shape == (4,)
         np.testing.assert_allclose(batch, [con(lay).value for lay in lays], rtol=1e-12)

@@ -29,14 +29,14 @@ def applied(layout, option: dict):
 
 def test_sharing_scores_equal_field_with_solved_currents(capsys):
     lay = read_layout(DEMO)
-    data = rank_json(capsys, str(DEMO), "--top", "3", "--sharing")
-    assert data["certified"] is False  # the search bound holds for equal shares only
-    base = field_summary(lay, distance_mm=500.0, sharing=True).max_resultant_uT
+    data = rank_json(capsys, str(DEMO), "--top", "3")
+    assert data["currents"] == "solved"
+    base = field_summary(lay, distance_mm=500.0).max_resultant_uT
     assert data["baseline_uT"] == pytest.approx(base, rel=1e-9)
     for opt in data["options"]:
         moved = applied(lay, opt)
-        # the same figure `field --sharing` reports for that arrangement
-        want = field_summary(moved, distance_mm=500.0, sharing=True)
+        # the same figure `field` reports for that arrangement (solved currents)
+        want = field_summary(moved, distance_mm=500.0)
         assert opt["max_resultant_uT"] == pytest.approx(want.max_resultant_uT, rel=1e-6)
 
 
@@ -44,7 +44,7 @@ def test_every_option_lists_imbalance_and_victim_emf(capsys):
     lay = read_layout(DEMO)
     data = rank_json(capsys, str(DEMO), "--top", "4")
     for opt in data["options"]:
-        cs = coupling_summary(applied(lay, opt), sharing=False).to_json()
+        cs = coupling_summary(applied(lay, opt)).to_json()
         worst_imb = max(g["imbalance_pct"] for g in cs["groups"])
         worst_emf = max(v["induced_mV_per_m"] for v in cs["victims"])
         assert opt["figures"]["imbalance_pct"] == pytest.approx(worst_imb, rel=1e-9)
@@ -71,7 +71,7 @@ def test_induced_voltage_limit_is_honoured(capsys):
     limited = rank_json(capsys, str(DEMO), "--top", "2", "--max-induced-mv-per-m", f"{cap}")
     for opt in limited["options"]:
         emf = max(v["induced_mV_per_m"]
-                  for v in coupling_summary(applied(lay, opt), sharing=False).to_json()["victims"])
+                  for v in coupling_summary(applied(lay, opt)).to_json()["victims"])
         assert emf <= cap * (1 + 1e-9)
 
 

@@ -88,7 +88,7 @@ def contour_score(lay: Layout) -> float:
 @pytest.mark.parametrize("make", [lambda: flat_sets(2), lambda: flat_sets(2, "132"), mixed])
 def test_top_options_equal_brute_force_on_the_contour(make):
     lay = make()
-    res = rank_layout(lay, top_k=4)
+    res = rank_layout(lay, top_k=4, currents="equal")
     want = brute_force(lay, contour_score)
     got = [o.max_resultant_uT for o in res.options]
     assert res.method == "exhaustive" and res.certified
@@ -104,12 +104,12 @@ def test_top_options_equal_brute_force_on_the_contour(make):
 
 def test_line_and_point_objectives_equal_brute_force():
     lay = mixed()
-    res = rank_layout(lay, top_k=2, objective="line:wall")
+    res = rank_layout(lay, top_k=2, objective="line:wall", currents="equal")
     want = brute_force(lay, lambda ly: line_figure(layout_sources(ly), ly.line("wall"))
                        .max_resultant_uT)
     assert res.options[0].max_resultant_uT == pytest.approx(want[0], rel=1e-9)
     assert res.objective == "line wall"
-    res = rank_layout(lay, top_k=2, objective="point:desk")
+    res = rank_layout(lay, top_k=2, objective="point:desk", currents="equal")
 
     def at_desk(ly: Layout) -> float:
         return float(field_at_points_uT(layout_sources(ly), np.array([[120.0, -800.0]]))[0][0])
@@ -136,7 +136,7 @@ def test_reversed_phase_order_beats_repeating_it_far_away():
         assert far_field(s.xy_m, s.currents).order == order
     ratios = [stray_uT(rev, d) / stray_uT(same, d) for d in (500.0, 5000.0)]
     assert ratios[0] < 1.0 and ratios[1] < ratios[0] / 5  # the gap grows ~ 1/r
-    res = rank_layout(same, top_k=1, distance_mm=5000.0)
+    res = rank_layout(same, top_k=1, distance_mm=5000.0, currents="equal")
     best = res.options[0]
     assert best.far_field_order == 3 and best.reduction_pct > 80.0
     assert best.max_resultant_uT == pytest.approx(stray_uT(rev, 5000.0), rel=1e-9)
@@ -184,8 +184,8 @@ def test_no_two_options_are_twins():
 def test_heuristic_finds_the_exhaustive_optimum_on_small_cases():
     for lay, kw in ((flat_sets(4), {}), (mixed(), {}), (flat_sets(2, width=330.0),
                                                        {"slots": "touching"})):
-        exact = rank_layout(lay, top_k=3, **kw)
-        heur = rank_layout(lay, top_k=3, max_exhaustive=0, seed=3, **kw)
+        exact = rank_layout(lay, top_k=3, **kw, currents="equal")
+        heur = rank_layout(lay, top_k=3, max_exhaustive=0, seed=3, **kw, currents="equal")
         assert heur.method == "heuristic" and not heur.certified
         assert heur.options[0].max_resultant_uT == pytest.approx(
             exact.options[0].max_resultant_uT, rel=1e-9)
@@ -194,7 +194,7 @@ def test_heuristic_finds_the_exhaustive_optimum_on_small_cases():
 def test_magpylib_confirms_the_best_option():
     magpy = pytest.importorskip("magpylib")
     lay = flat_sets(2)
-    best = rank_layout(lay, top_k=1).options[0]
+    best = rank_layout(lay, top_k=1, currents="equal").options[0]
     x0, y0, x1, y1 = (v * MM for v in lay.envelope_mm())
     d, n = 0.5, 4000
     t = np.linspace(0, 2 * np.pi, n, endpoint=False)

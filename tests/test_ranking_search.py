@@ -216,8 +216,8 @@ def test_stacked_pairs_pair_each_set_with_the_one_below():
 
 def test_heuristic_finds_the_exhaustive_optimum_in_two_layers():
     lay = stacked(2, 2)  # 12!/(4!)³ = 34 650 arrangements
-    exact = rank_layout(lay, top_k=1)
-    heur = rank_layout(lay, top_k=1, max_exhaustive=0, seed=5)
+    exact = rank_layout(lay, top_k=1, currents="equal")
+    heur = rank_layout(lay, top_k=1, max_exhaustive=0, seed=5, currents="equal")
     assert exact.certified and heur.method == "heuristic"
     # Source: the certified exhaustive optimum of the same layout.
     assert heur.options[0].max_resultant_uT == pytest.approx(
@@ -226,8 +226,8 @@ def test_heuristic_finds_the_exhaustive_optimum_in_two_layers():
 
 def test_heuristic_with_bundles_keeps_sets_together_and_finds_the_optimum():
     lay = stacked(2, 2)
-    exact = rank_layout(lay, top_k=3, bundles=True)
-    heur = rank_layout(lay, top_k=3, bundles=True, max_exhaustive=0, seed=2)
+    exact = rank_layout(lay, top_k=3, bundles=True, currents="equal")
+    heur = rank_layout(lay, top_k=3, bundles=True, max_exhaustive=0, seed=2, currents="equal")
     assert exact.certified and heur.method == "heuristic"
     # Source: the certified exhaustive optimum of the same bundled space.
     assert heur.options[0].max_resultant_uT == pytest.approx(

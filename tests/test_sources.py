@@ -121,37 +121,6 @@ def test_ac1_neutral_returns_line_current():
     assert by_name(src, 1)["L"] == pytest.approx(63.0)
 
 
-def test_overrides_replace_shares_and_neutral_follows():
-    lay = ac3_layout(current=300.0, sets=2)
-    solved = {"L10": 180.0 + 5j, "L11": 120.0 - 5j}
-    i = by_name(layout_sources(lay, overrides={1: solved}), 1)
-    assert i["L10"] == solved["L10"] and i["L11"] == solved["L11"]
-    phases = [i[k] for k in ("L10", "L11", "L20", "L21", "L30", "L31")]
-    assert i["N"] == pytest.approx(-sum(phases))  # the neutral returns the new sum
-
-
-def test_overridden_neutral_leaves_the_rest_to_the_other_neutral():
-    circ = Circuit("F1", "ac3", current_a=300.0, harmonics=((3, 0.2),))
-    cons = (cond("L1", "F1", "L1", 20.0), cond("L2", "F1", "L2", 55.0),
-            cond("L3", "F1", "L3", 90.0), cond("Na", "F1", "N", 125.0),
-            cond("Nb", "F1", "N", 160.0))
-    lay = Layout(circuits=(circ,), conductors=cons)
-    i3 = by_name(layout_sources(lay), 3)
-    assert i3["Na"] == pytest.approx(-90.0) and i3["Nb"] == pytest.approx(-90.0)
-    i3 = by_name(layout_sources(lay, overrides={3: {"Na": -120.0}}), 3)
-    assert i3["Na"] == pytest.approx(-120.0)
-    assert i3["Na"] + i3["Nb"] == pytest.approx(-180.0)  # KCL still holds
-
-
-def test_dc_overrides_apply():
-    circ = Circuit("B1", "dc", current_a=200.0)
-    lay = Layout(circuits=(circ,), conductors=(
-        cond("p1", "B1", "+", 20.0), cond("p2", "B1", "+", 60.0),
-        cond("m", "B1", "-", 100.0)))
-    src = layout_sources(lay, overrides={0: {"p1": 120.0, "p2": 80.0}})
-    np.testing.assert_array_equal(src.currents[0], [120.0, 80.0, -200.0])
-
-
 def test_signal_and_pe_carry_nothing_unless_given():
     lay = Layout(circuits=(Circuit("C7", "signal"),),
                  conductors=(cond("a", "C7", "a", 20.0, d=5.0),

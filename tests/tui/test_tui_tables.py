@@ -10,10 +10,9 @@ import math
 from dataclasses import replace
 from pathlib import Path
 
-import numpy as np
 import pytest
 
-from trayadvisor.coupling import coupling_summary
+from trayadvisor.coupling import SharingError, coupling_summary
 from trayadvisor.layoutfile import demo_path
 from trayadvisor.layoutfile.reader import read_layout
 from trayadvisor.model import Conductor
@@ -136,11 +135,29 @@ def test_worst_values_are_marked_in_words() -> None:
     assert len(marked) == 1 and marked[0].split()[0] == "C8"
 
 
-def test_coinciding_conductors_give_a_warning_not_numbers() -> None:
+def test_coinciding_conductors_give_a_message_not_numbers() -> None:
+    # Two parallel conductors at one place: no sharing solution, so no table at all but one
+    # line naming them (the view shows it in place of the figures).
     c = DEMO.conductors
     on_top = move_conductor(DEMO, c[0].name, c[1].x_mm - c[0].x_mm, c[1].y_mm - c[0].y_mm)
-    with np.errstate(all="ignore"):                             # as the view's worker does
-        lines = coupling_lines(coupling_summary(on_top))
-    assert lines[0].kind == "warning" and "undefined" in lines[0].text
-    row = next(ln.text for ln in lines if ln.text.split()[:2] == ["F1", "L1"])
-    assert "–" in row and WORST_IMBALANCE not in row            # no fake 0 % imbalance
+    with pytest.raises(SharingError) as err:
+        coupling_summary(on_top)
+    assert f"'{c[0].name}'" in str(err.value) and f"'{c[1].name}'" in str(err.value)
+
+
+def test_a_zero_total_group_shows_its_circulating_current_not_a_share() -> None:
+    # Two parallel neutrals of a balanced circuit: no share of a zero total, no "most
+    # loaded" flag on them; the group line gives the circulating current in amperes.
+    from trayadvisor.model import Circuit, Conductor, Layout
+
+    cons = [Conductor(f"F-{ph}", "F", ph, x, 20.0, 30.0, 240.0, "copper")
+            for ph, x in (("L1", 20.0), ("L2", 50.0), ("L3", 80.0), ("N", 110.0),
+                          ("N", 170.0))]
+    cons[3] = replace(cons[3], name="F-Na")
+    cons[4] = replace(cons[4], name="F-Nb")
+    lay = Layout(circuits=(Circuit("F", "ac3", 400.0),), conductors=tuple(cons))
+    lines = coupling_lines(coupling_summary(lay))
+    text = "\n".join(ln.text for ln in lines)
+    assert "circ" in text and " A" in text and "e+" not in text
+    assert all(WORST_SHARE not in ln.text for ln in lines if "F-N" in ln.text)
+    assert "%" not in next(ln.text for ln in lines if ln.text.split()[:2] == ["F", "N"])

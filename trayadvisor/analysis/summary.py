@@ -2,7 +2,9 @@
 
 :func:`field_summary` takes the user's options as keyword arguments (distance d, extra
 points, limits, which currents flow) and returns every figure ``field`` prints, so the front
-ends cannot disagree. Millimetres and µT at this boundary.
+ends cannot disagree. Millimetres and µT at this boundary. The currents are the solved
+sharing of parallel conductors by default (:func:`trayadvisor.coupling.carried_sources`),
+or equal shares.
 """
 
 from __future__ import annotations
@@ -13,16 +15,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.coupling import sharing_overrides
+from trayadvisor.coupling import (
+    DEFAULT_TEMPERATURE_C,
+    carried_sources,
+    check_current_model,
+    solve_sharing,
+)
 from trayadvisor.engine import (
     DEFAULT_DISTANCE_MM,
     LineFigure,
     PointFigure,
-    SourceArrays,
     clearance,
     envelope_m,
     far_field,
-    layout_sources,
     line_figure,
     point_figures,
     stray_field,
@@ -43,6 +48,16 @@ class LimitFigure:
 
 
 @dataclass(frozen=True)
+class ConductorCurrent:
+    """The current of one conductor at one frequency component (RMS phasor)."""
+
+    name: str
+    order: int  # 0 = DC, 1 = fundamental, h = harmonic
+    current_a: float
+    angle_deg: float
+
+
+@dataclass(frozen=True)
 class FieldSummary:
     """Stray field at a distance, where it peaks, far-field decay, points and limits."""
 
@@ -58,10 +73,14 @@ class FieldSummary:
     profile_s_mm: np.ndarray
     profile_uT: np.ndarray
     profile_xy_mm: np.ndarray
+    currents: str = "solved"  # the current model: "solved" sharing or "equal" shares
+    conductor_currents: tuple[ConductorCurrent, ...] = ()
+    notes: tuple[str, ...] = ()
 
     def to_json(self) -> dict:
         """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
         return {
+            "currents": self.currents,
             "distance_mm": self.distance_mm,
             "max_resultant_uT": self.max_resultant_uT,
             "max_at_mm": [self.max_at_mm[0], self.max_at_mm[1]],
@@ -88,13 +107,13 @@ class FieldSummary:
                  "pass": lim.passes}
                 for lim in self.limits
             ],
+            "conductor_currents": [
+                {"name": c.name, "order": c.order, "current_a": c.current_a,
+                 "angle_deg": c.angle_deg}
+                for c in self.conductor_currents
+            ],
+            "notes": list(self.notes),
         }
-
-
-def carried_sources(layout: Layout, *, sharing: bool = False) -> SourceArrays:
-    """The currents the figures use: equal shares, or the solved sharing between parallel
-    conductors (:func:`trayadvisor.coupling.sharing_overrides`) with ``sharing``."""
-    return layout_sources(layout, sharing_overrides(layout) if sharing else None)
 
 
 def field_summary(
@@ -103,7 +122,8 @@ def field_summary(
     distance_mm: float = DEFAULT_DISTANCE_MM,
     at: Sequence[tuple[float, float]] = (),
     limits: Iterable[tuple[str, float, str]] = (),
-    sharing: bool = False,
+    currents: str = "solved",
+    temperature_c: float = DEFAULT_TEMPERATURE_C,
 ) -> FieldSummary:
     """Every field figure of one layout.
 
@@ -116,8 +136,11 @@ def field_summary(
         Extra points to report; the layout's named points are always reported.
     limits : iterable of (name, µT, source)
         Limits to test, in addition to the layout's own ``[[limit]]`` entries.
-    sharing : bool
-        Use the solved current sharing between parallel conductors instead of equal shares.
+    currents : {"solved", "equal"}
+        The solved current sharing between parallel conductors (the default), or equal
+        shares.
+    temperature_c : float
+        Conductor temperature for the resistance in the sharing solve, °C.
 
     Returns
     -------
@@ -126,11 +149,18 @@ def field_summary(
     Raises
     ------
     ValueError
-        For a ``distance_mm`` that is negative or not finite (the message names it).
+        For a ``distance_mm`` that is negative or not finite, or an unknown ``currents``
+        (the message names the parameter).
+    trayadvisor.coupling.SharingError
+        When the sharing of some parallel conductors has no solution (naming them).
     """
     if not (math.isfinite(distance_mm) and distance_mm >= 0):
         raise ValueError(f"distance_mm = {distance_mm!r}: must be zero or a positive number")
-    src = carried_sources(layout, sharing=sharing)
+    if check_current_model(currents) == "solved":
+        shares = solve_sharing(layout, temperature_c)
+        src, notes = shares.sources, tuple(shares.notes())
+    else:
+        src, notes = carried_sources(layout, "equal"), ()
     env = envelope_m(layout)
     sf = stray_field(src.xy_m, src.radius_m, src.currents, env, distance_mm * MM)
     ff = far_field(src.xy_m, src.currents)
@@ -158,4 +188,15 @@ def field_summary(
         profile_s_mm=sf.s_m / MM,
         profile_uT=sf.resultant_T * UT,
         profile_xy_mm=sf.xy_m / MM,
+        currents=currents,
+        conductor_currents=tuple(
+            ConductorCurrent(name, int(h), float(abs(v)), _angle_deg(v))
+            for k, h in enumerate(src.orders)
+            for name, v in zip(src.names, src.currents[k], strict=True)),
+        notes=notes,
     )
+
+
+def _angle_deg(v: complex) -> float:
+    """The angle of a phasor in degrees; 0 for a zero (or rounding-noise) current."""
+    return float(np.angle(v, deg=True)) if abs(v) > 1e-12 else 0.0

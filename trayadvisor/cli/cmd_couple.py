@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import math
 
-from trayadvisor.cli.common import UserError, load, positive, print_json
+from trayadvisor.cli.common import UserError, current_model, load, positive, print_json
 from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
 from trayadvisor.engine.units import NH
 from trayadvisor.model import Layout
@@ -27,6 +27,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--earth-y-mm", type=float, default=None, metavar="Y",
                    help="height of an earth reference plane (mm): also report the "
                    "screen/earth loop of each signal pair")
+    p.add_argument("--equal-shares", action="store_true",
+                   help="victim EMF with equal shares between parallel conductors (default: "
+                   "the solved sharing)")
     p.add_argument("--json", action="store_true", help="print the figures as JSON")
     p.set_defaults(run=run)
 
@@ -42,7 +45,8 @@ def options(args: argparse.Namespace) -> dict:
                         f"{hi:g} °C, e.g. --temperature-c 70")
     if args.earth_y_mm is not None and not math.isfinite(args.earth_y_mm):
         raise UserError(f"--earth-y-mm {args.earth_y_mm}: must be a finite height in mm")
-    return {"length_m": args.length_m, "temperature_c": t, "earth_y_mm": args.earth_y_mm}
+    return {"length_m": args.length_m, "temperature_c": t, "earth_y_mm": args.earth_y_mm,
+            "currents": current_model(args)}
 
 
 def _g(v: float | None, digits: int = 3) -> str:
@@ -87,10 +91,13 @@ def render(path: str, layout: Layout, s: CouplingSummary) -> str:
         rows.append(f"  current sharing between parallel conductors ({basis})")
         rows.append(f"  {'conductor':<16}{'current A':>11}{'angle °':>9}{'share %':>9}")
         for c in sh.shares:
+            share = "-" if c.share_pct is None else f"{c.share_pct:.1f}"
             rows.append(f"  {c.conductor[:15]:<16}{c.current_a:>11.1f}{c.angle_deg:>9.1f}"
-                        f"{c.share_pct:>9.1f}")
+                        f"{share:>9}")
         rows.append("  imbalance (max−min)/mean: " + ", ".join(
-            f"{g.circuit} {g.phase} {g.imbalance_pct:.1f} %" for g in sh.groups))
+            f"{g.circuit} {g.phase} " + (f"{g.imbalance_pct:.1f} %" if g.imbalance_pct is not None
+                                         else f"no total, {g.circulating_a:.1f} A circulating")
+            for g in sh.groups))
     else:
         rows.append("  no parallel conductors: nothing to share")
     rows.extend(f"  note: {n}" for n in s.notes if sh.groups or "R'" not in n)
@@ -101,7 +108,7 @@ def render(path: str, layout: Layout, s: CouplingSummary) -> str:
 def run(args: argparse.Namespace) -> int:
     opts = options(args)
     layout = load(args.file)
-    summary = coupling_summary(layout, sharing=True, **opts)
+    summary = coupling_summary(layout, **opts)
     if args.json:
         print_json(summary.to_json())
     else:

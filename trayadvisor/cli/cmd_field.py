@@ -7,7 +7,14 @@ import argparse
 from trayadvisor.analysis import FieldSummary, field_summary
 from trayadvisor.batch import expand_inputs
 from trayadvisor.cli.batch_runs import run_batch
-from trayadvisor.cli.common import load, non_negative, parse_xy, positive, print_json
+from trayadvisor.cli.common import (
+    current_model,
+    load,
+    non_negative,
+    parse_xy,
+    positive,
+    print_json,
+)
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.model import Layout
 from trayadvisor.output import CAUTION_LINE, decay_text, fmt_mm, fmt_uT
@@ -23,8 +30,12 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help="also report the field at this point (mm); repeatable")
     p.add_argument("--limit-ut", dest="limit_uT", type=float, default=None, metavar="B",
                    help="test against this limit (µT): pass/fail and clearance distance")
+    p.add_argument("--equal-shares", action="store_true",
+                   help="parallel conductors share current equally (default: the solved "
+                   "sharing of the impedance system)")
     p.add_argument("--sharing", action="store_true",
-                   help="use solved current sharing between parallel conductors")
+                   help="solved current sharing between parallel conductors (the default; "
+                   "kept for scripts)")
     p.add_argument("--json", action="store_true", help="print the figures as JSON")
     p.add_argument("--out", default=None, metavar="SUMMARY.csv",
                    help="batch runs: write one summary row per file")
@@ -43,7 +54,7 @@ def options(args: argparse.Namespace) -> dict:
         "distance_mm": args.distance_mm,
         "at": [parse_xy(t) for t in args.at],
         "limits": limits,
-        "sharing": bool(getattr(args, "sharing", False)),
+        "currents": current_model(args),
     }
 
 
@@ -71,6 +82,9 @@ def render(path: str, layout: Layout, s: FieldSummary) -> str:
             verdict = "pass" if lim.passes else "FAIL"
             rows.append(f"  {lim.name[:27]:<28}{fmt_uT(lim.limit_uT):>8}  "
                         f"{fmt_mm(lim.clearance_mm):>14}  {verdict}")
+    rows.append("  currents: " + ("solved sharing between parallel conductors"
+                                  if s.currents == "solved" else "equal shares (--equal-shares)"))
+    rows += [f"  note: {n}" for n in s.notes]
     rows.append(CAUTION_LINE)
     return "\n".join(rows)
 

@@ -12,7 +12,7 @@ from pathlib import Path
 
 from trayadvisor.batch import expand_inputs
 from trayadvisor.cli.batch_runs import run_batch
-from trayadvisor.cli.common import UserError, load, print_json
+from trayadvisor.cli.common import UserError, current_model, load, print_json
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.layoutfile import LayoutError, validate_layout, write_layout
 from trayadvisor.model import Layout
@@ -34,7 +34,7 @@ PREFIX = "trayadvisor rank"
 FLAGS: dict[str, str] = {
     "distance_mm": "--distance-mm", "top_k": "--top", "objective": "--objective",
     "slots": "--slots", "bundles": "--bundles", "budget_s": "--budget-s", "seed": "--seed",
-    "max_exhaustive": "--max-exhaustive", "sharing": "--sharing",
+    "max_exhaustive": "--max-exhaustive", "currents": "--equal-shares",
     "max_imbalance_pct": "--max-imbalance-pct",
     "max_induced_mV_per_m": "--max-induced-mv-per-m",
 }
@@ -66,9 +66,11 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--max-exhaustive", default=str(DEFAULT_MAX_EXHAUSTIVE), metavar="N",
                    help="enumerate exactly up to this many distinct arrangements "
                    f"(default {DEFAULT_MAX_EXHAUSTIVE:,}); beyond, a heuristic search")
+    p.add_argument("--equal-shares", action="store_true",
+                   help="score options with equal shares between parallel conductors "
+                   "(default: each arrangement's solved sharing)")
     p.add_argument("--sharing", action="store_true",
-                   help="score options with the solved current sharing between parallel "
-                   "conductors instead of equal shares")
+                   help="solved current sharing (the default; kept for scripts)")
     p.add_argument("--max-imbalance-pct", default=None, metavar="P",
                    help="keep only options whose parallel conductors share current within "
                    "P %% ((max-min)/mean of each phase group)")
@@ -127,7 +129,7 @@ def options(args: argparse.Namespace) -> dict:
         "budget_s": None if args.budget_s is None else _float("--budget-s", args.budget_s),
         "seed": _int("--seed", args.seed),
         "max_exhaustive": _int("--max-exhaustive", args.max_exhaustive),
-        "sharing": bool(getattr(args, "sharing", False)),
+        "currents": current_model(args),
         # a limit not given = inf: the figure is listed, nothing is excluded
         "max_imbalance_pct": math.inf if imbalance is None
         else _float("--max-imbalance-pct", imbalance),

@@ -6,7 +6,8 @@ import argparse
 import os
 from pathlib import Path
 
-from trayadvisor.cli.common import UserError, load, non_negative
+from trayadvisor.cli.common import UserError, current_model, load, non_negative
+from trayadvisor.coupling import SharingError
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.output import CAUTION_LINE, REPORT_FORMATS, write_report
 
@@ -21,6 +22,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--top", type=int, default=6, metavar="K",
                    help="ranked options shown (default 6)")
     p.add_argument("--no-rank", action="store_true", help="leave out the ranked options")
+    p.add_argument("--equal-shares", action="store_true",
+                   help="every figure with equal shares between parallel conductors "
+                   "(default: the solved sharing)")
     p.set_defaults(run=run)
 
 
@@ -42,9 +46,11 @@ def run(args: argparse.Namespace) -> int:
     try:
         written = write_report(layout, out, source_text=text, source_name=args.file,
                                distance_mm=args.distance_mm, top=args.top,
-                               rank=not args.no_rank)
+                               rank=not args.no_rank, currents=current_model(args))
     except OSError as exc:
         raise UserError(f"--out {args.out}: cannot write ({exc.strerror or exc})") from None
+    except SharingError as exc:
+        raise UserError(f"{args.file}:0: {exc}") from None
     extra = f" and {len(written) - 1} picture file(s)" if len(written) > 1 else ""
     print(f"wrote {os.fspath(out)}{extra}")
     print(CAUTION_LINE)

@@ -47,6 +47,14 @@ def non_negative(name: str, value: float) -> float:
     return value
 
 
+def current_model(args: Any) -> str:
+    """The current model the flags ask for: ``"equal"`` with ``--equal-shares``, else the
+    solved sharing (``--sharing``, the default, says the same)."""
+    if getattr(args, "equal_shares", False) and getattr(args, "sharing", False):
+        raise UserError("--equal-shares and --sharing contradict each other; give one")
+    return "equal" if getattr(args, "equal_shares", False) else "solved"
+
+
 def print_json(obj: Any) -> None:
     """Print ``obj`` as JSON (the one JSON writer; non-finite floats as null)."""
     sys.stdout.write(dumps(obj) + "\n")

@@ -3,7 +3,10 @@
 - :mod:`~trayadvisor.coupling.inductance` — per-metre and finite-length (Grover) mutual
   inductance, geometric mean radii, the loops of a layout and their inductance matrix.
 - :mod:`~trayadvisor.coupling.sharing` — the impedance system of all conductors and the
-  current sharing between parallel conductors of a phase (R' from area and material).
+  current sharing between parallel conductors of a phase; ``carried_sources``: the
+  currents every figure uses (``"solved"``, the default, or ``"equal"`` shares).
+- :mod:`~trayadvisor.coupling.resistance` — R′ from the IEC 60228 table, at temperature,
+  and at each harmonic with the IEC 60287-1-1 skin effect.
 - :mod:`~trayadvisor.coupling.victims` — the EMF induced in victim signal loops, per metre,
   over a run and per harmonic; the screen/earth loop.
 - :mod:`~trayadvisor.coupling.summary` — ``coupling_summary``: every coupling figure of one
@@ -25,23 +28,38 @@ from trayadvisor.coupling.inductance import (
     loop_inductance_matrix,
     mutual_inductance_per_m,
 )
-from trayadvisor.coupling.sharing import (
-    DEFAULT_TEMPERATURE_C,
-    SharingResult,
+from trayadvisor.coupling.resistance import (
+    ac_resistance_per_m,
+    dc_resistance_20c_per_m,
     resistance_per_m,
-    sharing_overrides,
+    skin_effect_factor,
+)
+from trayadvisor.coupling.sharing import (
+    CURRENT_MODELS,
+    DEFAULT_TEMPERATURE_C,
+    SharingError,
+    SharingResult,
+    carried_sources,
+    check_current_model,
     solve_sharing,
+    solved_sources,
 )
 from trayadvisor.coupling.summary import CouplingSummary, coupling_summary
 from trayadvisor.coupling.victims import VictimFigure, induced_emf
 
 __all__ = [
+    "CURRENT_MODELS",
     "DEFAULT_TEMPERATURE_C",
+    "SharingError",
     "ConstraintFigure",
     "CouplingSummary",
     "SharingResult",
     "VictimFigure",
+    "ac_resistance_per_m",
+    "carried_sources",
+    "check_current_model",
     "coupling_summary",
+    "dc_resistance_20c_per_m",
     "gmr_m",
     "grover_mutual_finite",
     "imbalance_constraint",
@@ -50,6 +68,7 @@ __all__ = [
     "loop_inductance_matrix",
     "mutual_inductance_per_m",
     "resistance_per_m",
-    "sharing_overrides",
+    "skin_effect_factor",
     "solve_sharing",
+    "solved_sources",
 ]

@@ -22,6 +22,7 @@ import numpy as np
 from trayadvisor.coupling.sharing import (
     DEFAULT_TEMPERATURE_C,
     SharingPlan,
+    check_current_model,
     group_imbalance_pct,
     sharing_plan,
     solve_plan,
@@ -90,11 +91,12 @@ class _PlanCache:
         raise NotImplementedError
 
     def value_xy(self, layout: Layout, xy_m: np.ndarray) -> tuple[float, str]:
-        """(worst figure, which group/victim) for centres ``xy_m`` (n, 2) m."""
+        """(worst figure, which group/victim) for centres ``xy_m`` (n, 2) m; a group without
+        a figure (NaN: its total is zero) is passed over."""
         vals, labels = self.items(layout, xy_m)
-        if not labels:
+        if not labels or np.all(np.isnan(vals)):
             return 0.0, ""
-        k = int(np.argmax(vals))
+        k = int(np.nanargmax(vals))
         return float(vals[k]), labels[k]
 
     def values_batch(self, layout: Layout, xy_m: np.ndarray) -> np.ndarray:
@@ -106,7 +108,7 @@ class _PlanCache:
         vals, labels = self.items(layout, xy_m)
         if not labels:
             return np.zeros(np.shape(xy_m)[:-2])
-        return vals.max(axis=-1)
+        return np.nan_to_num(np.fmax.reduce(vals, axis=-1), nan=0.0)
 
     def __call__(self, layout: Layout) -> ConstraintFigure:
         value, worst = self.value_xy(layout, positions_m(layout))
@@ -148,16 +150,16 @@ class InducedVoltageConstraint(_PlanCache):
 
     key = "induced_mV_per_m"
 
-    def __init__(self, max_mv_per_m: float, sharing: bool = False,
+    def __init__(self, max_mv_per_m: float, currents: str = "solved",
                  temperature_c: float = DEFAULT_TEMPERATURE_C) -> None:
         super().__init__()
         self.limit = float(max_mv_per_m)
-        self.sharing = bool(sharing)
+        self.currents = check_current_model(currents)
         self.temperature_c = float(temperature_c)
 
     def _build(self, layout: Layout) -> _EmfSetup:
         src = layout_sources(layout)
-        shp = sharing_plan(layout, self.temperature_c) if self.sharing else None
+        shp = sharing_plan(layout, self.temperature_c) if self.currents == "solved" else None
         return _EmfSetup(emf_plan(layout), 2.0 * np.pi * src.frequency_hz, src.currents, shp)
 
     def items(self, layout: Layout, xy_m: np.ndarray) -> tuple[np.ndarray, tuple[str, ...]]:
@@ -181,12 +183,12 @@ def imbalance_constraint(max_pct: float,
     return ImbalanceConstraint(max_pct, temperature_c)
 
 
-def induced_voltage_constraint(max_mV_per_m: float, sharing: bool = False,  # noqa: N803
+def induced_voltage_constraint(max_mV_per_m: float, currents: str = "solved",  # noqa: N803
                                temperature_c: float = DEFAULT_TEMPERATURE_C,
                                ) -> InducedVoltageConstraint:
     """Constraint: every victim loop's EMF ≤ ``max_mV_per_m`` (RMS over harmonics).
 
-    ``sharing=True`` computes the EMF with the solved sharing currents (``rank --sharing``),
-    otherwise with equal shares; see :func:`trayadvisor.coupling.victims.induced_emf`.
+    ``currents="solved"`` (the default) computes the EMF with the solved sharing currents,
+    ``"equal"`` with equal shares; see :func:`trayadvisor.coupling.victims.induced_emf`.
     """
-    return InducedVoltageConstraint(max_mV_per_m, sharing, temperature_c)
+    return InducedVoltageConstraint(max_mV_per_m, currents, temperature_c)

@@ -6,13 +6,19 @@ include, with the options as keyword arguments.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from trayadvisor.coupling.inductance import loop_inductance_matrix
-from trayadvisor.coupling.sharing import DEFAULT_TEMPERATURE_C, SharingResult, solve_sharing
+from trayadvisor.coupling.sharing import (
+    DEFAULT_TEMPERATURE_C,
+    SharingResult,
+    check_current_model,
+    solve_sharing,
+)
 from trayadvisor.coupling.victims import VictimFigure, induced_emf
+from trayadvisor.engine import layout_sources
 from trayadvisor.engine.units import UH
 from trayadvisor.model import Layout
 
@@ -33,6 +39,7 @@ class CouplingSummary:
         """The ``couple --json`` object (docs/json.md; keys may be added, never renamed)."""
         s = self.sharing
         return {
+            "currents": "solved" if self.sharing_used else "equal",
             "victims": [
                 {"circuit": v.circuit, "induced_mV_per_m": v.induced_mV_per_m,
                  "length_m": v.length_m, "induced_V": v.induced_V,
@@ -53,7 +60,8 @@ class CouplingSummary:
             "groups": [
                 {"circuit": g.circuit, "phase": g.phase, "conductors": list(g.conductors),
                  "current_a": g.current_a, "order": g.order,
-                 "imbalance_pct": g.imbalance_pct, "reactance_only": g.reactance_only}
+                 "imbalance_pct": g.imbalance_pct, "reactance_only": g.reactance_only,
+                 "circulating_a": g.circulating_a}
                 for g in s.groups
             ],
             "reactance_only": s.reactance_only,
@@ -66,7 +74,7 @@ class CouplingSummary:
         }
 
 
-def coupling_summary(layout: Layout, length_m: float | None = None, sharing: bool = True,
+def coupling_summary(layout: Layout, length_m: float | None = None, currents: str = "solved",
                      temperature_c: float = DEFAULT_TEMPERATURE_C,
                      earth_y_mm: float | None = None) -> CouplingSummary:
     """Loop inductances, victim EMF and current sharing of one layout.
@@ -76,26 +84,26 @@ def coupling_summary(layout: Layout, length_m: float | None = None, sharing: boo
     layout : Layout
     length_m : float, optional
         Run length for victims without their own ``length_m``.
-    sharing : bool
-        Compute the victim EMF with the solved sharing currents (True) or with equal shares.
-        The sharing table is reported either way.
+    currents : {"solved", "equal"}
+        Compute the victim EMF with the solved sharing currents (the default) or with equal
+        shares. The sharing table is reported either way.
     temperature_c : float
         Conductor temperature for R', °C.
     earth_y_mm : float, optional
         Earth reference height for the screen/earth loop (see :func:`induced_emf`).
     """
+    solved = check_current_model(currents) == "solved"
     shares = solve_sharing(layout, temperature_c)
-    overrides = shares.overrides() if sharing else None
+    src = layout_sources(layout)
+    if solved:
+        src = replace(src, currents=shares.currents)
     if earth_y_mm is None:
         earth_y_mm = layout.earth_y_mm
-    victims = induced_emf(layout, length_m, overrides, earth_y_mm)
+    victims = induced_emf(layout, length_m, src, earth_y_mm)
     names, m = loop_inductance_matrix(layout)
-    notes: list[str] = ["R' is the DC resistance (skin and proximity effect left out)"]
-    if shares.reactance_only:
-        rx = ", ".join(f"{g.circuit} {g.phase}" for g in shares.groups if g.reactance_only)
-        notes.append(f"reactance-only sharing (no conductor area given): {rx}")
-    if shares.gmr_from_overall:
-        notes.append("self inductance from the overall diameter (no area given): "
-                     + ", ".join(shares.gmr_from_overall))
-    return CouplingSummary(tuple(victims), shares, names, m, sharing,
+    notes = shares.notes()
+    if not solved and shares.groups:
+        notes.append("victim EMF with equal shares between parallel conductors (the sharing "
+                     "table is the solved one)")
+    return CouplingSummary(tuple(victims), shares, names, m, solved,
                            None if earth_y_mm is None else float(earth_y_mm), tuple(notes))

@@ -11,13 +11,12 @@ conductor at its centroid, returning through an earth reference plane at height
 
 from __future__ import annotations
 
-from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
 
 from trayadvisor.coupling.inductance import grover_mutual_finite
-from trayadvisor.engine import layout_sources
+from trayadvisor.engine import SourceArrays, layout_sources
 from trayadvisor.engine.units import K_LINE, MM, MV
 from trayadvisor.model import Layout
 
@@ -174,7 +173,7 @@ def finite_run_emf(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray,
 
 
 def induced_emf(layout: Layout, length_m: float | None = None,
-                overrides: Mapping[int, Mapping[str, complex]] | None = None,
+                src: SourceArrays | None = None,
                 earth_y_mm: float | None = None) -> list[VictimFigure]:
     """EMF induced in every victim signal loop, per metre and over its run.
 
@@ -183,9 +182,9 @@ def induced_emf(layout: Layout, length_m: float | None = None,
     layout : Layout
     length_m : float, optional
         Run length for victims whose circuit gives no ``length_m``.
-    overrides : optional
-        Solved currents (:func:`~trayadvisor.coupling.sharing.sharing_overrides`) instead
-        of equal shares.
+    src : SourceArrays, optional
+        The currents (e.g. :func:`~trayadvisor.coupling.sharing.solved_sources`); equal
+        shares when not given.
     earth_y_mm : float, optional
         Earth reference height, mm; defaults to the layout's ``earth_y_mm`` key when present.
         Adds the screen/earth loop figures.
@@ -211,7 +210,7 @@ def induced_emf(layout: Layout, length_m: float | None = None,
         return []
     if earth_y_mm is None:
         earth_y_mm = layout.earth_y_mm
-    src = layout_sources(layout, overrides)
+    src = src if src is not None else layout_sources(layout)
     omega = 2.0 * np.pi * src.frequency_hz
     xy = src.xy_m
     earth_m = None if earth_y_mm is None else float(earth_y_mm) * MM

@@ -11,13 +11,13 @@ place:
   conductors' sum at every harmonic (balanced ac3: only the triplens, 3 × the phase's current).
 - A circuit's phase current is shared equally by its conductors of that phase unless a
   conductor gives ``current_a`` (an explicit fundamental, angle from ``angle_deg`` or the
-  phase), or the caller passes solved currents in ``overrides``.
+  phase). Solved sharing between parallel conductors replaces the equal shares afterwards
+  (:func:`trayadvisor.coupling.carried_sources`).
 """
 
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -63,18 +63,12 @@ def _polar(mag: float, angle_deg: float) -> complex:
     return complex(mag * np.cos(a), mag * np.sin(a))
 
 
-def conductor_currents(
-    layout: Layout,
-    overrides: Mapping[int, Mapping[str, complex]] | None = None,
-) -> dict[int, np.ndarray]:
+def conductor_currents(layout: Layout) -> dict[int, np.ndarray]:
     """RMS current phasor of every conductor at every frequency component.
 
     Parameters
     ----------
     layout : Layout
-    overrides : mapping order -> {conductor name -> phasor (A)}, optional
-        Solved currents (e.g. from current sharing) that replace the equal shares at that
-        component; a neutral still returns the (overridden) phase sum unless it is overridden.
 
     Returns
     -------
@@ -103,10 +97,6 @@ def conductor_currents(
                     r[index[c.name]] = sign * mag
                 elif c.current_a is not None:  # PE with an explicit current
                     r[index[c.name]] = c.current_a
-            if overrides and 0 in overrides:
-                for name, value in overrides[0].items():
-                    if name in index and cons[index[name]].circuit == circ.name:
-                        r[index[name]] = value
             continue
         harmonics = dict(circ.harmonics)
         orders = [1] + sorted(h for h, frac in harmonics.items() if frac > 0 and h != 1)
@@ -125,40 +115,28 @@ def conductor_currents(
                 row(1)[index[c.name]] = _polar(c.current_a, phi)
         for h in orders:
             r = row(h)
-            if overrides and h in overrides:
-                for name, value in overrides[h].items():
-                    if name in index and cons[index[name]].circuit == circ.name:
-                        r[index[name]] = value
             if not neutrals:
                 continue
             phase_idx = [index[c.name] for c in members if c.phase in PHASE_ANGLE_DEG]
             ret = -r[phase_idx].sum()
-            overridden = [c for c in neutrals
-                          if overrides and h in overrides and c.name in overrides[h]]
-            explicit = [c for c in neutrals if h == 1 and c.current_a is not None
-                        and c not in overridden]
+            explicit = [c for c in neutrals if h == 1 and c.current_a is not None]
             for c in explicit:
                 phi = c.angle_deg if c.angle_deg is not None else float(np.angle(ret, deg=True))
                 r[index[c.name]] = _polar(c.current_a, phi)
-            free = [c for c in neutrals if c not in explicit and c not in overridden]
+            free = [c for c in neutrals if c not in explicit]
             if free:
-                rest = ret - sum(r[index[c.name]] for c in explicit + overridden)
+                rest = ret - sum(r[index[c.name]] for c in explicit)
                 for c in free:
                     r[index[c.name]] = rest / len(free)
     return out
 
 
-def layout_sources(
-    layout: Layout,
-    overrides: Mapping[int, Mapping[str, complex]] | None = None,
-) -> SourceArrays:
+def layout_sources(layout: Layout) -> SourceArrays:
     """The layout's conductors as SI arrays with their current phasors.
 
     Parameters
     ----------
     layout : Layout
-    overrides : mapping order -> {conductor name -> phasor (A)}, optional
-        Solved currents replacing the equal shares at that component (order 0 = DC).
 
     Returns
     -------
@@ -182,7 +160,7 @@ def layout_sources(
     n = len(cons)
     xy = np.array([[c.x_mm, c.y_mm] for c in cons], dtype=float).reshape(n, 2) * MM
     radius = np.array([c.radius_mm for c in cons], dtype=float) * MM
-    rows = conductor_currents(layout, overrides)
+    rows = conductor_currents(layout)
     orders = np.array(sorted(rows), dtype=int)
     if orders.size == 0:
         orders = np.array([1])

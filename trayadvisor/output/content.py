@@ -17,8 +17,8 @@ import numpy as np
 
 from trayadvisor import __version__
 from trayadvisor.analysis import FieldSummary, field_summary
-from trayadvisor.coupling import coupling_summary
-from trayadvisor.engine import DEFAULT_DISTANCE_MM, field_grid_uT, layout_sources, stray_uT
+from trayadvisor.coupling import carried_sources, coupling_summary
+from trayadvisor.engine import DEFAULT_DISTANCE_MM, field_grid_uT, stray_uT
 from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
 from trayadvisor.model import Layout
@@ -107,13 +107,15 @@ def contour_bounds(layout: Layout, distance_mm: float) -> tuple[float, float, fl
 
 def build_report(layout: Layout, *, source_text: str | None = None, source_name: str = "",
                  distance_mm: float = DEFAULT_DISTANCE_MM, top: int = 6, rank: bool = True,
-                 coupling: bool = True, pictures: bool = True) -> ReportContent:
-    """Compute every figure and picture of the report for ``layout``."""
+                 coupling: bool = True, pictures: bool = True,
+                 currents: str = "solved") -> ReportContent:
+    """Compute every figure and picture of the report for ``layout``; ``currents`` is the
+    current model of every figure ("solved" sharing, the default, or "equal" shares)."""
     f = float(layout.frequency_hz)
     library = library_at(f)
-    summary = field_summary(layout, distance_mm=distance_mm,
+    summary = field_summary(layout, distance_mm=distance_mm, currents=currents,
                             limits=[(lim.name, ut, library_source(lim)) for lim, ut in library])
-    src = layout_sources(layout)
+    src = carried_sources(layout, currents)
     d = sweep_distances(summary)
     b = np.array([stray_uT(layout, float(x), src) for x in d])
     content = ReportContent(
@@ -123,11 +125,12 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
         summary=summary, field_json=summary.to_json(), library=library, sweep_mm=d,
         sweep_uT=b)
     if rank:
-        content.rank_json = rank_layout(layout, distance_mm=distance_mm, top_k=top).to_json()
+        content.rank_json = rank_layout(layout, distance_mm=distance_mm, top_k=top,
+                                        currents=currents).to_json()
     else:
         content.rank_note = "Ranking was not run for this report."
     if coupling:
-        content.coupling_json = coupling_summary(layout).to_json()
+        content.coupling_json = coupling_summary(layout, currents=currents).to_json()
     if not pictures:
         return content
     bounds = contour_bounds(layout, distance_mm)
@@ -193,6 +196,9 @@ def summary_rows(c: ReportContent) -> list[list[Cell | str]]:
         ["where it peaks, y (mm)", _cell(s.max_at_mm[1])],
         ["far-field decay", decay_text(s.far_field_order)],
         ["far-field leading term at 1 m (µT)", _cell(s.far_field_uT_at_1m)],
+        ["currents", "solved sharing between parallel conductors" if s.currents == "solved"
+         else "equal shares between parallel conductors"],
+        *([["note", n] for n in s.notes]),
     ]
     for p in (*s.points, *s.named_points):
         rows.append([f"point {p.name} ({p.x_mm:g}, {p.y_mm:g}) mm: resultant / max (µT)",

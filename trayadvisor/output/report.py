@@ -25,7 +25,8 @@ class ReportError(ValueError):
 
 def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: str | None = None,
                  source_name: str = "", distance_mm: float = DEFAULT_DISTANCE_MM, top: int = 6,
-                 rank: bool = True, coupling: bool = True) -> list[Path]:
+                 rank: bool = True, coupling: bool = True,
+                 currents: str = "solved") -> list[Path]:
     """Write the report for ``layout`` to ``path`` (.html, or .md with SVG files beside it).
 
     Parameters
@@ -38,6 +39,7 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
     source_name : the file name shown in the report.
     distance_mm, top : distance d for the stray field; number of ranked options shown.
     rank, coupling : include those sections (when their engines are available).
+    currents : the current model of every figure: "solved" sharing (the default) or "equal".
 
     Returns
     -------
@@ -53,7 +55,8 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
     if kind is None:
         raise ReportError(f"{target}: a report is .html or .md, not '{target.suffix or '(none)'}'")
     content = build_report(layout, source_text=source_text, source_name=source_name,
-                           distance_mm=distance_mm, top=top, rank=rank, coupling=coupling)
+                           distance_mm=distance_mm, top=top, rank=rank, coupling=coupling,
+                           currents=currents)
     if kind == "html":
         atomic_write_text(target, render_html(content))
         return [target]

@@ -21,9 +21,10 @@ from collections.abc import Callable, Sequence
 import numpy as np
 
 from trayadvisor.coupling import (
+    CURRENT_MODELS,
     imbalance_constraint,
     induced_voltage_constraint,
-    sharing_overrides,
+    solved_sources,
 )
 from trayadvisor.engine import DEFAULT_DISTANCE_MM, far_field, layout_sources
 from trayadvisor.engine.units import MM, UT
@@ -44,11 +45,11 @@ DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by defa
 DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
 _SEED_DESCENTS = 16  # local-search descents that seed the exhaustive pool's threshold
 _SMALL = 512  # below this many arrangements no seeding is needed
-SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing (``sharing=True``)
+SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing
 
 
 def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: float,
-                          max_induced_mV_per_m: float, sharing: bool,  # noqa: N803
+                          max_induced_mV_per_m: float, currents: str,  # noqa: N803
                           figures: bool) -> tuple[Constraint, ...]:
     """The given constraints, the limits on imbalance and victim EMF, and (with ``figures``)
     figure-only checks (limit inf) for the keys nothing else covers."""
@@ -56,13 +57,13 @@ def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: 
     if not math.isinf(max_imbalance_pct):
         out.append(imbalance_constraint(max_imbalance_pct))
     if not math.isinf(max_induced_mV_per_m):
-        out.append(induced_voltage_constraint(max_induced_mV_per_m, sharing=sharing))
+        out.append(induced_voltage_constraint(max_induced_mV_per_m, currents=currents))
     if figures:
         have = {getattr(c, "key", None) for c in out}
         if "imbalance_pct" not in have:
             out.append(imbalance_constraint(math.inf))
         if "induced_mV_per_m" not in have:
-            out.append(induced_voltage_constraint(math.inf, sharing=sharing))
+            out.append(induced_voltage_constraint(math.inf, currents=currents))
     return tuple(out)
 
 
@@ -101,7 +102,7 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
                        budget_s: float | None = None, seed: int = 0,
                        max_imbalance_pct: float = math.inf,
                        max_induced_mV_per_m: float = math.inf,  # noqa: N803
-                       **_: object) -> None:
+                       currents: str = "solved", **_: object) -> None:
     """Check the options of :func:`rank_layout` that do not depend on the layout.
 
     Raises :class:`RankError` naming the parameter; front ends call it before a batch so
@@ -115,6 +116,8 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
         _number("budget_s", budget_s, positive=True)
     _number("max_imbalance_pct", max_imbalance_pct, positive=True, inf=True)
     _number("max_induced_mV_per_m", max_induced_mV_per_m, positive=True, inf=True)
+    if currents not in CURRENT_MODELS:
+        raise RankError(f"use one of {', '.join(CURRENT_MODELS)}", "currents", currents)
     if objective is not None and objective != "contour":
         kind, _, name = str(objective).partition(":")
         if kind not in ("line", "point") or not name:
@@ -127,7 +130,7 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
 def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int = 5,
                 objective: str | None = None, slots: str | None = None,
                 bundles: bool = False, max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
-                budget_s: float | None = None, seed: int = 0, sharing: bool = False,
+                budget_s: float | None = None, seed: int = 0, currents: str = "solved",
                 max_imbalance_pct: float = math.inf,
                 max_induced_mV_per_m: float = math.inf,  # noqa: N803
                 constraints: Sequence[Constraint] = (),
@@ -168,11 +171,9 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
         Polled between blocks; when true the best found so far is returned.
     max_evaluations, patience : int, optional
         Heuristic stops: scored arrangements; descents without a new best.
-    sharing : bool
+    currents : {"solved", "equal"}
         Score the options with the solved current sharing between parallel conductors
-        (:func:`trayadvisor.coupling.sharing_overrides`) instead of equal shares. The search
-        itself runs on equal shares; the best :data:`SHARING_RESCORE` candidates are then
-        re-scored with sharing and re-ranked (such a ranking is not certified).
+        (:func:`trayadvisor.coupling.carried_sources`, the default) or equal shares.
     max_imbalance_pct : float
         Keep only options whose parallel conductors share current within this imbalance
         (%, (max − min)/mean of each phase group, solved sharing); inf keeps all.
@@ -197,18 +198,19 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     check_rank_options(distance_mm=distance_mm, top_k=top_k, objective=objective, slots=slots,
                        max_exhaustive=max_exhaustive, budget_s=budget_s, seed=seed,
                        max_imbalance_pct=max_imbalance_pct,
-                       max_induced_mV_per_m=max_induced_mV_per_m)
+                       max_induced_mV_per_m=max_induced_mV_per_m, currents=currents)
     src = layout_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
-                                        sharing, coupling_figures)
+                                        currents, coupling_figures)
     identity = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
     space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
     notes = list(space.notes)
     _symmetries(space, layout, obj, identity, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
-    baseline = obj.score_uT(layout_sources(layout, sharing_overrides(layout)) if sharing else src,
+    sharing = currents == "solved"
+    baseline = obj.score_uT(solved_sources(layout) if sharing else src,
                             layout, base_pos)
     method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
     deadline = None
@@ -255,7 +257,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
                       elapsed_s=time.perf_counter() - t0, stopped_early=bool(stop),
                       objective=obj.label, certified=bool(certified and method == "exhaustive"),
                       screened=int(screened), notes=tuple(notes),
-                      baseline_positions=base_pos)
+                      baseline_positions=base_pos, currents=currents)
 
 
 def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
@@ -346,7 +348,7 @@ def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,
         ok, figs = _check(constraints, moved) if constraints else (True, {})
         if not ok:
             continue
-        value = obj.score_uT(layout_sources(moved, sharing_overrides(moved)) if sharing else src,
+        value = obj.score_uT(solved_sources(moved) if sharing else src,
                              layout, pos)
         xy = np.array([pos[nm] for nm in names], dtype=float).reshape(-1, 2) * MM
         order = far_field(xy, src.currents).order

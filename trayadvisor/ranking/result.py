@@ -50,10 +50,12 @@ class RankResult:
     screened: int = 0  # heuristic: further arrangements bounded on a few points only
     notes: tuple[str, ...] = ()
     baseline_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
+    currents: str = "solved"  # the current model every option was scored with
 
     def to_json(self) -> dict:
         """The ``rank --json`` object (docs/json.md; keys may be added, never renamed)."""
         return {
+            "currents": self.currents,
             "distance_mm": self.distance_mm,
             "method": self.method,
             "evaluated": self.evaluated,

@@ -113,7 +113,7 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
 
     def analysis_key(self) -> AnalysisKey:
         return (self.document_serial, self.document.generation, self.settings.distance_mm,
-                self.limits)
+                self.limits, self.settings.currents)
 
     def chosen_limit(self) -> Limit | None:
         return chosen_limit(self.settings, self.limits, self.document.layout)
@@ -180,31 +180,34 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         so arrow keys never queue a dozen clearance searches."""
         lim = self.chosen_limit()
         self._analyse(self.analysis_key(), self.document.layout, self.settings.distance_mm,
-                      [lim] if lim is not None else [], summary=True)
+                      [lim] if lim is not None else [], summary=True,
+                      currents=self.settings.currents)
 
     def request_all_limits(self) -> None:
         """Compute the verdict and clearance of every offered limit not yet known."""
         key = self.analysis_key()
         todo = [lim for lim in self.limits if self.figure_keys.get(lim.name) != key]
         if todo:
-            self._limits_worker(key, self.document.layout, self.settings.distance_mm, todo)
+            self._limits_worker(key, self.document.layout, self.settings.distance_mm, todo,
+                                self.settings.currents)
 
     @work(thread=True, exclusive=True, group="analysis", exit_on_error=False)
     def _analyse(self, key: AnalysisKey, layout: Layout, distance_mm: float,
-                 limits: list[Limit], summary: bool = True) -> None:
+                 limits: list[Limit], summary: bool = True, currents: str = "solved") -> None:
         worker = get_current_worker()
         run_analysis(layout, distance_mm, limits,
                      emit=lambda r: self.post_message(Computed(key, r)),
-                     cancelled=lambda: worker.is_cancelled, summary=summary)
+                     cancelled=lambda: worker.is_cancelled, summary=summary,
+                     currents=currents)
 
     @work(thread=True, exclusive=True, group="limits", exit_on_error=False)
     def _limits_worker(self, key: AnalysisKey, layout: Layout, distance_mm: float,
-                       limits: list[Limit]) -> None:
+                       limits: list[Limit], currents: str = "solved") -> None:
         worker = get_current_worker()
         run_analysis(layout, distance_mm, limits,
                      emit=lambda r: self.post_message(Computed(key, r)),
                      cancelled=lambda: worker.is_cancelled or key != self.analysis_key(),
-                     summary=False)
+                     summary=False, currents=currents)
 
     @on(Computed)
     def _computed(self, event: Computed) -> None:

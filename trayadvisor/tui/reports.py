@@ -60,11 +60,11 @@ class ReportCommands(_Base):
         self.report_running = True
         self.set_status(f"writing the report to {target}…")
         self._report_worker(doc.layout, target, source_file, name,
-                            self.settings.distance_mm)
+                            self.settings.distance_mm, self.settings.currents)
 
     @work(thread=True, exclusive=True, group="report", exit_on_error=False)
     def _report_worker(self, layout: Layout, target: Path, source_file: Path | None,
-                       source_name: str, distance_mm: float) -> None:
+                       source_name: str, distance_mm: float, currents: str) -> None:
         from trayadvisor.output import ReportError, write_report
 
         text = None
@@ -75,7 +75,7 @@ class ReportCommands(_Base):
                 text = None  # the report then shows the layout as it would be saved
         try:
             written = write_report(layout, target, source_text=text, source_name=source_name,
-                                   distance_mm=distance_mm)
+                                   distance_mm=distance_mm, currents=currents)
         except ReportError as err:
             self.call_from_thread(self._report_done, [], str(err))
         except OSError as err:

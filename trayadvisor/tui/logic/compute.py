@@ -16,6 +16,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from trayadvisor.analysis import FieldSummary, LimitFigure, field_summary
+from trayadvisor.coupling import SharingError, carried_sources
 from trayadvisor.engine import field_grid_uT
 from trayadvisor.model import Layout, Limit
 from trayadvisor.tui.logic.viewport import Viewport
@@ -47,33 +48,41 @@ Result = SummaryDone | LimitDone | Failed
 
 def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
                  emit: Callable[[Result], object],
-                 cancelled: Callable[[], bool] = lambda: False, summary: bool = True) -> None:
+                 cancelled: Callable[[], bool] = lambda: False, summary: bool = True,
+                 currents: str = "solved") -> None:
     """Compute the readouts of one layout in stages.
 
-    1. With ``summary``: ``field_summary(layout, distance_mm=d)`` without limits (milliseconds),
-       emitted as SummaryDone.
+    1. With ``summary``: ``field_summary(layout, distance_mm=d, currents=…)`` without limits
+       (milliseconds), emitted as SummaryDone.
     2. For each limit in ``limits``, ``field_summary`` with just that limit, which adds its
        clearance search (tens of ms each): one LimitDone each.
     """
     base = replace(layout, limits=())
     try:
         if summary:
-            result = field_summary(base, distance_mm=distance_mm)
+            result = field_summary(base, distance_mm=distance_mm, currents=currents)
             if cancelled():
                 return
             emit(SummaryDone(result))
         for lim in limits:
             if cancelled():
                 return
-            fig = field_summary(base, distance_mm=distance_mm,
+            fig = field_summary(base, distance_mm=distance_mm, currents=currents,
                                 limits=[(lim.name, lim.value_uT, lim.source)]).limits[-1]
             if cancelled():
                 return
             emit(LimitDone(fig))
+    except SharingError as exc:  # a layout whose sharing has no solution: say why
+        emit(Failed(str(exc)))
     except Exception as exc:  # a UI must survive an engine error: show it, keep running
         emit(Failed(f"field computation failed: {type(exc).__name__}: {exc}"))
 
 
-def map_grid(layout: Layout, vp: Viewport) -> np.ndarray:
-    """Resultant field (µT) at the window's pixel centres, row 0 at the lowest y."""
-    return field_grid_uT(layout, vp.bounds_mm, vp.cols, vp.px_rows)
+def map_grid(layout: Layout, vp: Viewport, currents: str = "solved") -> np.ndarray:
+    """Resultant field (µT) at the window's pixel centres, row 0 at the lowest y (NaN where
+    the currents cannot be solved: the status line says why)."""
+    try:
+        src = carried_sources(layout, currents)
+    except SharingError:
+        return np.full((vp.px_rows, vp.cols), np.nan)
+    return field_grid_uT(layout, vp.bounds_mm, vp.cols, vp.px_rows, src)

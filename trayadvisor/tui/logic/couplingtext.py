@@ -37,9 +37,14 @@ def g3(v: float | None) -> str:
     return f"{v:.3g}" if v != 0 else "0"
 
 
-def f1(v: float) -> str:
-    """One decimal place (currents, angles, shares, imbalance)."""
-    return f"{v:.1f}" if math.isfinite(v) else "–"
+def f1(v: float | None) -> str:
+    """One decimal place (currents, angles, shares, imbalance); "–" for no value."""
+    return f"{v:.1f}" if v is not None and math.isfinite(v) else "–"
+
+
+def _num(v: float | None) -> float:
+    """A JSON number for arithmetic: NaN for none (a share of a zero total, say)."""
+    return math.nan if v is None else float(v)
 
 
 def _largest(values: list[float]) -> int | None:
@@ -80,7 +85,7 @@ def victim_lines(data: dict) -> list[Line]:
 def _loading(data: dict) -> list[float]:
     """Each parallel conductor's share over its equal share (1 = even)."""
     size = {(g["circuit"], g["phase"]): len(g["conductors"]) for g in data["groups"]}
-    return [c["share_pct"] * size.get((c["circuit"], c["phase"]), 1) / 100.0
+    return [_num(c["share_pct"]) * size.get((c["circuit"], c["phase"]), 1) / 100.0
             for c in data["sharing"]]
 
 
@@ -101,16 +106,16 @@ def sharing_lines(data: dict) -> list[Line]:
         out.append(Line(text + (f" {WORST_SHARE}" if k == worst else ""),
                         "worst" if k == worst else "row"))
     out.append(Line("Imbalance per group (max−min)/mean", "head"))
-    undefined = {(c["circuit"], c["phase"]) for c in data["sharing"]
-                 if not math.isfinite(c["share_pct"])}
-    imbalance = [math.nan if (g["circuit"], g["phase"]) in undefined else g["imbalance_pct"]
-                 for g in groups]
+    imbalance = [_num(g["imbalance_pct"]) for g in groups]
     worst = _largest(imbalance)
     if worst is None and len(groups) == 1 and imbalance[0] > 0.05:
         worst = 0
     for k, g in enumerate(groups):
         flag = "⚠" if g["reactance_only"] else " "
-        text = f" {flag}{g['circuit'][:6]:<7}{g['phase']:<4}{f1(imbalance[k]):>6} %"
+        if g.get("circulating_a"):  # a zero total: only a circulating current, in amperes
+            text = f" {flag}{g['circuit'][:6]:<7}{g['phase']:<4}circ {f1(g['circulating_a'])} A"
+        else:
+            text = f" {flag}{g['circuit'][:6]:<7}{g['phase']:<4}{f1(imbalance[k]):>6} %"
         out.append(Line(text + (f" {WORST_IMBALANCE}" if k == worst else ""),
                         "worst" if k == worst else "row"))
     return out
@@ -141,14 +146,14 @@ def worst_lines(data: dict) -> list[Line]:
     if data["groups"] and any(math.isfinite(x) for x in load):
         k = max((i for i in range(len(load)) if math.isfinite(load[i])), key=load.__getitem__)
         c = data["sharing"][k]
-        even = c["share_pct"] / load[k] if load[k] else math.nan
+        even = _num(c["share_pct"]) / load[k] if load[k] else math.nan
         out.append(Line(f" share     {c['conductor']} {f1(c['share_pct'])} % (even "
                         f"{f1(even)} %)", "worst"))
         if load[k] > 1.0 + OVERLOAD_NOTE:
             out.append(Line(f"   ⚠ {c['conductor']} carries more than its even share and runs "
                             "hotter: rate it for this current (no ampacity check here)",
                             "warning"))
-    imb = [g for g in data["groups"] if math.isfinite(g["imbalance_pct"])]
+    imb = [g for g in data["groups"] if math.isfinite(_num(g["imbalance_pct"]))]
     if imb:
         g = max(imb, key=lambda g: g["imbalance_pct"])
         out.append(Line(f" imbalance {g['circuit']} {g['phase']} {f1(g['imbalance_pct'])} %",
@@ -159,7 +164,6 @@ def worst_lines(data: dict) -> list[Line]:
 def undefined_note(data: dict) -> list[Line]:
     """A warning when some figure is not a number (conductors that coincide)."""
     values = [v["induced_mV_per_m"] for v in data["victims"]]
-    values += [c["share_pct"] for c in data["sharing"]]
     if all(math.isfinite(v) for v in values):
         return []
     return [Line("⚠ Some figures are undefined (–): conductors coincide or overlap; the "

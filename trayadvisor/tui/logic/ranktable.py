@@ -9,7 +9,7 @@ result still fits the layout on screen. No textual here.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from trayadvisor.model import Layout
 from trayadvisor.output import decay_text, fmt_uT
@@ -36,11 +36,16 @@ class RankParams:
     budget_s : float or None
         Time budget in seconds; None leaves it to the engine (exact search has none, the
         heuristic search has its default).
+    max_imbalance_pct, max_induced_mV_per_m : float
+        Keep only options within these limits (``--max-imbalance-pct``,
+        ``--max-induced-mv-per-m``); inf keeps all.
     """
 
     top_k: int = 5
     objective: str | None = None
     budget_s: float | None = None
+    max_imbalance_pct: float = math.inf
+    max_induced_mV_per_m: float = math.inf
 
     def __post_init__(self) -> None:
         if isinstance(self.top_k, bool) or not 1 <= self.top_k <= MAX_TOP_K:
@@ -52,13 +57,19 @@ class RankParams:
         if o is not None and (o.partition(":")[0] not in ("line", "point")
                               or not o.partition(":")[2]):
             raise ValueError("objective: the contour, line:NAME or point:NAME")
+        for v, what in ((self.max_imbalance_pct, "imbalance"),
+                        (self.max_induced_mV_per_m, "victim EMF")):
+            if math.isnan(v) or v <= 0:
+                raise ValueError(f"the {what} limit must be a positive number")
 
-    def options(self, distance_mm: float) -> dict:
+    def options(self, distance_mm: float, currents: str = "solved") -> dict:
         """The keyword arguments of :func:`trayadvisor.ranking.rank_layout` for this run,
-        as ``trayadvisor rank --distance-mm D --top K [--objective …] [--budget-s S]``
-        gives them."""
+        as ``trayadvisor rank --distance-mm D --top K [--objective …] [--budget-s S]
+        [--max-imbalance-pct P] [--max-induced-mv-per-m V] [--equal-shares]`` gives them."""
         return {"distance_mm": float(distance_mm), "top_k": self.top_k,
-                "objective": self.objective, "budget_s": self.budget_s}
+                "objective": self.objective, "budget_s": self.budget_s,
+                "max_imbalance_pct": self.max_imbalance_pct,
+                "max_induced_mV_per_m": self.max_induced_mV_per_m, "currents": currents}
 
 
 def objective_choices(layout: Layout) -> list[tuple[str, str]]:
@@ -83,7 +94,7 @@ def usable_params(params: RankParams, layout: Layout) -> RankParams:
         return params
     if params.objective in {v for _, v in objective_choices(layout)}:
         return params
-    return RankParams(params.top_k, None, params.budget_s)
+    return replace(params, objective=None)
 
 
 # -- the table ------------------------------------------------------------------------------

@@ -1,5 +1,5 @@
 """Settings of the views that are not part of the layout: distance d, the chosen limit, the
-move step and the map style. No textual here.
+current model, the move step and the map style. No textual here.
 """
 
 from __future__ import annotations
@@ -7,6 +7,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from trayadvisor.coupling import CURRENT_MODELS
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.limits import all_limits
 from trayadvisor.model import Layout, Limit
@@ -32,6 +33,9 @@ class ViewSettings:
         Arrow-key move step (mm); shift+arrow moves by one conductor diameter.
     map_style : str
         "colour" (half-block heat map) or "shade" (glyph density and iso-level digits).
+    currents : str
+        "solved" (the sharing of parallel conductors from the impedance system, the
+        default) or "equal" (equal shares, ``--equal-shares`` on the command line).
     """
 
     distance_mm: float = DEFAULT_DISTANCE_MM
@@ -39,6 +43,7 @@ class ViewSettings:
     typed_limit_uT: float | None = None
     fine_step_mm: float = 5.0
     map_style: str = "colour"
+    currents: str = "solved"
 
     def __post_init__(self) -> None:
         if not (math.isfinite(self.distance_mm) and self.distance_mm >= 0):
@@ -50,6 +55,8 @@ class ViewSettings:
             raise ValueError("a limit must be a positive number of µT")
         if self.map_style not in MAP_STYLES:
             raise ValueError(f"map style must be one of {', '.join(MAP_STYLES)}")
+        if self.currents not in CURRENT_MODELS:
+            raise ValueError(f"currents must be one of {', '.join(CURRENT_MODELS)}")
 
 
 def available_limits(layout: Layout, typed_uT: float | None = None) -> tuple[Limit, ...]:

@@ -16,14 +16,14 @@ from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.worker import get_current_worker
 
-from trayadvisor.coupling import CouplingSummary, coupling_summary
+from trayadvisor.coupling import CouplingSummary, SharingError, coupling_summary
 from trayadvisor.model import Layout
 from trayadvisor.tui.logic.couplingtext import Line, coupling_lines
 from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.widgets.canvas import SectionCanvas
 from trayadvisor.tui.widgets.panels import CouplingPanel
 
-CouplingKey = tuple[int, int]  # (document serial, generation)
+CouplingKey = tuple[int, int, str]  # (document serial, generation, current model)
 
 
 class CouplingScreen(EditingScreen):
@@ -59,7 +59,8 @@ class CouplingScreen(EditingScreen):
         self.query_one(SectionCanvas).focus()
 
     def key(self) -> CouplingKey:
-        return (self.tapp.document_serial, self.tapp.document.generation)
+        return (self.tapp.document_serial, self.tapp.document.generation,
+                self.tapp.settings.currents)
 
     @property
     def current(self) -> bool:
@@ -73,6 +74,10 @@ class CouplingScreen(EditingScreen):
             self._wanted = key
             self._compute(key, self.tapp.document.layout)
         self.show_figures()
+
+    def settings_changed(self) -> None:
+        super().settings_changed()
+        self.document_changed(moved=False)  # the current model may have changed
 
     def show_figures(self) -> None:
         panel = self.query_one("#coupling", CouplingPanel)
@@ -88,7 +93,11 @@ class CouplingScreen(EditingScreen):
         worker = get_current_worker()
         try:
             with np.errstate(all="ignore"):  # coinciding conductors: NaN, shown as "–"
-                summary = coupling_summary(layout)
+                summary = coupling_summary(layout, currents=key[2])
+        except SharingError as exc:  # a layout the sharing cannot solve: say why
+            if not worker.is_cancelled:
+                self.post_message(self.Ready(key, None, str(exc)))
+            return
         except Exception as exc:  # a UI must survive an engine error: show it, keep running
             if not worker.is_cancelled:
                 self.post_message(self.Ready(key, None, f"coupling figures failed: "

@@ -29,6 +29,7 @@ class _GridKey:
     document: int
     generation: int
     viewport: Viewport
+    currents: str
 
 
 class FieldScreen(EditingScreen):
@@ -102,6 +103,7 @@ class FieldScreen(EditingScreen):
         super().settings_changed()
         self.update_bars()
         self.query_one(SectionCanvas).set_fit_bounds(self.fit_bounds())
+        self.request_grid()
 
     def action_map_style(self) -> None:
         app = self.tapp
@@ -119,7 +121,8 @@ class FieldScreen(EditingScreen):
         if vp.cols < 2 or vp.rows < 2 or canvas.size.width == 0:
             return
         doc = self.tapp.document
-        key = _GridKey(self.tapp.document_serial, doc.generation, vp)
+        key = _GridKey(self.tapp.document_serial, doc.generation, vp,
+                       self.tapp.settings.currents)
         if key in (self._wanted, self.grid_key):
             return
         self._wanted = key
@@ -128,7 +131,7 @@ class FieldScreen(EditingScreen):
     @work(thread=True, exclusive=True, group="map", exit_on_error=False)
     def _compute_grid(self, key: _GridKey, layout: Layout) -> None:
         worker = get_current_worker()
-        values = map_grid(layout, key.viewport)
+        values = map_grid(layout, key.viewport, key.currents)
         if not worker.is_cancelled:
             self.post_message(self.GridReady(key, values))
 
@@ -145,4 +148,5 @@ class FieldScreen(EditingScreen):
         """True when the map on show is for the current model and window."""
         doc = self.tapp.document
         vp = self.query_one(SectionCanvas).viewport
-        return self.grid_key == _GridKey(self.tapp.document_serial, doc.generation, vp)
+        return self.grid_key == _GridKey(self.tapp.document_serial, doc.generation, vp,
+                                         self.tapp.settings.currents)

@@ -25,6 +25,7 @@ from textual.widgets import Button, Input, Label, OptionList, Select, Static
 from textual.widgets.option_list import Option
 
 from trayadvisor.analysis import LimitFigure
+from trayadvisor.coupling import CURRENT_MODELS
 from trayadvisor.model import MATERIALS, PHASES, SYSTEMS, Circuit, Conductor, Layout, Limit, Tray
 from trayadvisor.output import fmt_mm, fmt_uT
 from trayadvisor.tui.logic.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
@@ -306,6 +307,7 @@ class SettingsForm(FormScreen[ViewSettings | None]):
                                       placeholder="optional")
         yield "Move step mm", Input(_text(s.fine_step_mm), id="step", compact=True)
         yield "Map style", _select("style", MAP_STYLES, s.map_style)
+        yield "Currents", _select("currents", CURRENT_MODELS, s.currents)
         options = [Option(("▸" if lim.name == self.chosen_at_open else " ")
                           + limit_row(lim, self.figures.get(lim.name)), id=lim.name)
                    for lim in self.limits]
@@ -348,4 +350,5 @@ class SettingsForm(FormScreen[ViewSettings | None]):
             distance_mm=self.number("distance", "distance d", "mm", 0.0) or 0.0,
             limit_name=chosen, typed_limit_uT=typed,
             fine_step_mm=self.number("step", "move step", "mm", 0.0, strict=True) or 1.0,
-            map_style=self.choice("style") or "colour")
+            map_style=self.choice("style") or "colour",
+            currents=self.choice("currents") or "solved")

@@ -1,7 +1,9 @@
-"""The Ranking view's run form: how many options, which objective, a time budget."""
+"""The Ranking view's run form: how many options, which objective, a time budget, and the
+limits on current imbalance and victim EMF."""
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable
 
 from textual.widget import Widget
@@ -32,6 +34,10 @@ class RankForm(FormScreen[RankParams | None]):
         yield "Time budget s", Input("" if p.budget_s is None else f"{p.budget_s:g}",
                                      id="budget", compact=True,
                                      placeholder="optional (heuristic: 8 s)")
+        yield "Max imbalance %", Input(_limit_text(p.max_imbalance_pct), id="imbalance",
+                                       compact=True, placeholder="optional")
+        yield "Max EMF mV/m", Input(_limit_text(p.max_induced_mV_per_m), id="emf",
+                                    compact=True, placeholder="optional (victim loops)")
         yield "Distance d", Static(f"{self.distance_mm:g} mm (d changes it)", markup=False)
 
     def build(self) -> RankParams | None:
@@ -44,5 +50,13 @@ class RankForm(FormScreen[RankParams | None]):
             raise FormError("top", f"top K: give 1 to {MAX_TOP_K}")
         budget = self.number("budget", "time budget", "s", 0.0, strict=True, optional=True)
         objective = self.choice("objective")
+        imbalance = self.number("imbalance", "imbalance limit", "%", 0.0, strict=True,
+                                optional=True)
+        emf = self.number("emf", "victim EMF limit", "mV/m", 0.0, strict=True, optional=True)
         return RankParams(top, None if objective in (None, CONTOUR) else str(objective),
-                          budget)
+                          budget, math.inf if imbalance is None else imbalance,
+                          math.inf if emf is None else emf)
+
+
+def _limit_text(v: float) -> str:
+    return "" if math.isinf(v) else f"{v:g}"

@@ -249,7 +249,8 @@ class RankingScreen(WorkScreen):
         self.show_progress()
         self.show_info()
         app.set_status("ranking the open layout… Esc stops and keeps the best found so far")
-        self._rank(self.run_count, layout, self.params, app.settings.distance_mm, self._stop)
+        self._rank(self.run_count, layout, self.params, app.settings.distance_mm,
+                   app.settings.currents, self._stop)
 
     def action_stop(self) -> None:
         if not self.running:
@@ -260,14 +261,15 @@ class RankingScreen(WorkScreen):
 
     @work(thread=True, exclusive=True, group="ranking", exit_on_error=False)
     def _rank(self, run: int, layout: Layout, params: RankParams, distance_mm: float,
-              stop: threading.Event) -> None:
+              currents: str, stop: threading.Event) -> None:
         worker = get_current_worker()
 
         def progress(fraction: float, text: str) -> None:
             self.post_message(RankProgress(run, fraction, text))
 
         try:
-            result = rank_layout(layout, **params.options(distance_mm), progress=progress,
+            result = rank_layout(layout, **params.options(distance_mm, currents),
+                                 progress=progress,
                                  cancel=lambda: stop.is_set() or worker.is_cancelled)
         except RankError as err:
             self.post_message(RankFinished(run, layout, params, None, str(err)))
