@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 from trayadvisor.analysis.summary import line_figure
+from trayadvisor.coupling import solved_sources
 from trayadvisor.engine import field_at_points_uT, stray_uT
 from trayadvisor.engine.currents import MM, layout_sources
 from trayadvisor.engine.field import far_field
@@ -64,7 +65,8 @@ def brute_force(layout: Layout, score) -> list[float]:
         places = [(c.x_mm, c.y_mm) for c in members]
         per_class.append([dict(zip([c.name for c in perm], places, strict=True))
                           for perm in itertools.permutations(members)])
-    phase = {c.name: (c.circuit, c.phase) for c in movable}
+    # conductors of one circuit and phase are alike unless their size differs
+    phase = {c.name: (c.circuit, c.phase, c.area_mm2, c.material) for c in movable}
     seen, values = set(), []
     for combo in itertools.product(*per_class):
         pos = {k: v for part in combo for k, v in part.items()}
@@ -300,3 +302,41 @@ def test_sketch_of_a_crowded_single_row_does_not_fail():
                  circuits=(Circuit("F1", "ac3", 100.0),), conductors=tuple(cs))
     text = sketch_text(lay, {c.name: (c.x_mm, c.y_mm) for c in cs})
     assert sum(text.splitlines()[0].count(t) for t in ("L1", "L2", "L3")) == 48
+
+
+def shared_row(second_area: float = 240.0) -> Layout:
+    """Two parallel sets of 240 mm² copper (one L1 fixed at the end of the row) and a
+    single-phase pair of the same overall diameter in one row of 8 places: the parallel
+    groups share current by the impedance system, the pair's currents are known."""
+    spec = [("M-L1a", "M", "L1", 240.0, True), ("M-L2a", "M", "L2", 240.0, False),
+            ("M-L3a", "M", "L3", 240.0, False), ("S-L", "S", "L", 95.0, False),
+            ("M-L1b", "M", "L1", second_area, False), ("M-L2b", "M", "L2", second_area, False),
+            ("M-L3b", "M", "L3", second_area, False), ("S-N", "S", "N", 95.0, False)]
+    cons = tuple(Conductor(n, c, ph, 60.0 + 32.0 * i, 16.0, 30.0, area, "copper", fixed=fix)
+                 for i, (n, c, ph, area, fix) in enumerate(spec))
+    return Layout(title="shared", trays=(Tray("T", 0, 0, 400, 80),), conductors=cons,
+                  circuits=(Circuit("M", "ac3", 700.0, harmonics=((5, 0.15),)),
+                            Circuit("S", "ac1", 120.0)))
+
+
+@pytest.mark.parametrize("second_area", [240.0, 185.0])
+def test_top_options_with_solved_currents_equal_a_solved_brute_force(second_area):
+    # Every arrangement scored with its own currents: the engine's search (one impedance
+    # inverse for alike conductors; a full solve when sizes differ within one place) must
+    # find what an independent brute force finds, in which each arrangement is solved by
+    # the sharing solve (checked against a hand-built impedance solve in
+    # test_coupling_sharing.py) and scored by the `field` command's function.
+    lay = shared_row(second_area)
+    res = rank_layout(lay, top_k=3)
+    assert res.currents == "solved" and res.method == "exhaustive" and res.certified
+
+    def solved_score(moved: Layout) -> float:
+        return stray_uT(moved, 500.0, solved_sources(moved))
+
+    want = brute_force(lay, solved_score)
+    got = [o.max_resultant_uT for o in res.options]
+    assert got[0] == pytest.approx(want[0], rel=1e-9)
+    assert got == pytest.approx(want[:3], rel=1e-9)
+    # and with equal shares the answer is another arrangement (the sharing decides)
+    equal = rank_layout(lay, top_k=1, currents="equal").options[0]
+    assert solved_score(apply_option(lay, equal)) > got[0] * (1 + 1e-6)

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 from trayadvisor.analysis.summary import envelope_m
+from trayadvisor.coupling import solved_sources
 from trayadvisor.engine.contour import stray_field
 from trayadvisor.engine.currents import MM, layout_sources
 from trayadvisor.engine.field import phasor_field, resultant_rms
@@ -18,6 +19,7 @@ from trayadvisor.ranking.local_search import LocalSearch, run_local
 from trayadvisor.ranking.objective import make_objective
 from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.ranking.sets import paired_subproblems, pairings
+from trayadvisor.ranking.solved import MoveState, SolvedTables
 from trayadvisor.ranking.tables import Pool, Tables
 
 
@@ -238,3 +240,69 @@ def test_heuristic_with_bundles_keeps_sets_together_and_finds_the_optimum():
         for g in groups:  # every group of places holds one complete set (L1, L2, L3)
             phases = sorted(c.phase for c in lay.conductors if o.positions[c.name] in g)
             assert phases == ["L1", "L2", "L3"]
+
+
+# -- exact scores with solved currents ----------------------------------------------------
+def solved_setup(second_area: float = 240.0):
+    import test_ranking
+
+    lay = test_ranking.shared_row(second_area)
+    src = layout_sources(lay)
+    obj = make_objective(lay, 500.0, None, src)
+    space = build_space(lay, identity=True)
+    return lay, obj, space, SolvedTables(space, src, obj.search_m, lay, 90.0)
+
+
+@pytest.mark.parametrize("second_area", [240.0, 185.0])
+def test_solved_tables_equal_the_sharing_solve_of_each_arrangement(second_area):
+    # Reference: the layout's own sharing solve (coupling.solved_sources) on the
+    # arrangement's positions, and the field engine on the search points.
+    lay, obj, space, tables = solved_setup(second_area)
+    assert tables.model.schur is (second_area == 240.0)  # alike sizes: one inverse
+    rng = np.random.default_rng(7)
+    codes = []
+    for _ in range(6):
+        a = space.reference().copy()
+        for s, e, _ in space.free_cells:
+            a[s:e] = rng.permutation(a[s:e])
+        codes.append(a)
+    got = tables.values(np.array(codes))
+    for a, v in zip(codes, got, strict=True):
+        moved = lay.with_positions(space.positions_of(a, lay))
+        ss = solved_sources(moved)
+        b = phasor_field(ss.xy_m, ss.radius_m, ss.currents, obj.search_m)
+        assert v == pytest.approx(float((resultant_rms(b) ** 2).max()), rel=1e-10)
+
+
+def test_incremental_solved_moves_match_a_fresh_solve():
+    # A move changes a few rows of the column incidence; the rank-update of the column
+    # system must give what a fresh solve of the new arrangement gives.
+    lay, _, space, tables = solved_setup()
+    a = space.reference()
+    state = MoveState(tables, a)
+    rng = np.random.default_rng(3)
+    (s, e, _), = space.free_cells
+    for _ in range(12):
+        i, j = rng.choice(np.arange(s, e), 2, replace=False)
+        pos, src = np.array([[i, j]]), np.array([[j, i]])
+        predicted = state.evaluate(pos, src)[0]
+        screened = state.screen(pos, src, state.peaks(5))[0]
+        assert screened <= predicted * (1 + 1e-12)  # a subset of points: a lower bound
+        state.apply(pos[0], src[0])
+        assert predicted == pytest.approx(tables.values(state.a[None])[0], rel=1e-10)
+        assert state.value == pytest.approx(predicted, rel=1e-12)
+
+
+def test_solved_local_search_reaches_a_local_optimum_of_the_exact_scores():
+    lay, _, space, tables = solved_setup()
+    ls = LocalSearch(space, tables, np.random.default_rng(5))
+    a, _, m = ls.descend(ls.random())
+    assert m == pytest.approx(tables.values(a[None])[0], rel=1e-10)
+    worse = []
+    for s, e, _ in space.free_cells:
+        for i, j in itertools.combinations(range(s, e), 2):
+            b = a.copy()
+            b[i], b[j] = b[j], b[i]
+            worse.append(b)
+    # Source: brute force over every single swap, scored with fresh solves.
+    assert tables.values(np.array(worse)).min() >= m * (1 - 1e-12)

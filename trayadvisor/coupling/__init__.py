@@ -25,6 +25,7 @@ from trayadvisor.coupling.constraints import (
 from trayadvisor.coupling.inductance import (
     gmr_m,
     grover_mutual_finite,
+    log_distance_matrix,
     loop_inductance_matrix,
     mutual_inductance_per_m,
 )
@@ -38,9 +39,12 @@ from trayadvisor.coupling.sharing import (
     CURRENT_MODELS,
     DEFAULT_TEMPERATURE_C,
     SharingError,
+    SharingPlan,
     SharingResult,
     carried_sources,
     check_current_model,
+    sharing_plan,
+    solve_plan,
     solve_sharing,
     solved_sources,
 )
@@ -51,6 +55,7 @@ __all__ = [
     "CURRENT_MODELS",
     "DEFAULT_TEMPERATURE_C",
     "SharingError",
+    "SharingPlan",
     "ConstraintFigure",
     "CouplingSummary",
     "SharingResult",
@@ -65,10 +70,13 @@ __all__ = [
     "imbalance_constraint",
     "induced_emf",
     "induced_voltage_constraint",
+    "log_distance_matrix",
     "loop_inductance_matrix",
     "mutual_inductance_per_m",
     "resistance_per_m",
+    "sharing_plan",
     "skin_effect_factor",
+    "solve_plan",
     "solve_sharing",
     "solved_sources",
 ]

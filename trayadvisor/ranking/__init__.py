@@ -10,6 +10,9 @@
 - :mod:`~trayadvisor.ranking.symmetry` — mirror and phase symmetries (twins merged), the
   mirror-invariant sub-problem.
 - :mod:`~trayadvisor.ranking.tables` — per-position field tables, batch scoring, the pool.
+- :mod:`~trayadvisor.ranking.solved` — exact scores with each arrangement's own solved
+  currents (one impedance inverse, a small system over the parallel groups per
+  arrangement, rank updates per move).
 - :mod:`~trayadvisor.ranking.enumeration` and :mod:`~trayadvisor.ranking.exhaustive` — exact
   enumeration of the distinct arrangements in blocks, with an exact filter.
 - :mod:`~trayadvisor.ranking.local_search`, :mod:`~trayadvisor.ranking.heuristic` and
@@ -24,7 +27,6 @@ The method is written up in ``docs/ranking.md``.
 from trayadvisor.ranking.errors import RankError
 from trayadvisor.ranking.rank import (
     DEFAULT_MAX_EXHAUSTIVE,
-    SHARING_RESCORE,
     check_rank_options,
     rank_layout,
 )
@@ -34,7 +36,6 @@ from trayadvisor.ranking.slots import SLOT_RULES
 
 __all__ = [
     "DEFAULT_MAX_EXHAUSTIVE",
-    "SHARING_RESCORE",
     "SLOT_RULES",
     "Constraint",
     "RankError",

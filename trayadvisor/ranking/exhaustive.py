@@ -28,6 +28,7 @@ _FILTER_PEAKS = 4  # plus the peak points of the best arrangements found so far
 _MAX_SUFFIX = 2048
 _BLOCK_FLOATS = 1 << 21
 _EPS = np.finfo(float).eps
+_EXACT_PAIRS = 4096  # arrangements scored together by the exact (solved) search
 
 
 def filter_points(tables: Tables, pool: Pool) -> np.ndarray:
@@ -63,6 +64,9 @@ def exhaustive(space: Space, tables: Tables, pool: Pool, *,
     import time
 
     clock = clock or time.perf_counter
+    if not tables.linear:
+        return _exhaustive_exact(space, tables, pool, deadline=deadline, cancel=cancel,
+                                 tick=tick, clock=clock)
     tf = tables.subset(filter_points(tables, pool))
     done = 0
     for config in space.configurations():
@@ -94,6 +98,42 @@ def exhaustive(space: Space, tables: Tables, pool: Pool, *,
                     codes = np.concatenate([pre[s + ii], suf[kk]], axis=1)
                     rows, vals = tables.values_below(codes, pool.threshold())
                     pool.add(codes[rows], vals)
+                done += (e - s) * ns
+                if tick is not None:
+                    tick(done)
+                if cancel is not None and cancel():
+                    return done, "cancelled"
+                if deadline is not None and clock() >= deadline:
+                    return done, "budget"
+    return done, ""
+
+
+def _exhaustive_exact(space: Space, tables: Tables, pool: Pool, *,
+                      deadline: float | None, cancel: Callable[[], bool] | None,
+                      tick: Callable[[int], None] | None, clock: Callable[[], float]
+                      ) -> tuple[int, str]:
+    """:func:`exhaustive` with exact solved scores: the currents of every arrangement are
+    its own, so the filter bound is the arrangement's exact field on the filter points (a
+    lower bound of its maximum over all points), computed for every arrangement."""
+    tf = tables.subset(filter_points(tables, pool))
+    done = 0
+    for config in space.configurations():
+        for pre, suf in blocks(space.cells(config), _MAX_SUFFIX):
+            ns = suf.shape[0]
+            step = max(1, _EXACT_PAIRS // max(1, ns))
+            for s in range(0, pre.shape[0], step):
+                e = min(pre.shape[0], s + step)
+                codes = np.concatenate([np.repeat(pre[s:e], ns, axis=0),
+                                        np.tile(suf, (e - s, 1))], axis=1)
+                bound = tf.values(codes)
+                if not np.isfinite(pool.threshold()):  # fill the pool from the best bounds
+                    best = np.argsort(bound)[: 4 * pool.capacity]
+                    pool.add(codes[best], tables.values(codes[best]))
+                tol = 64.0 * _EPS * float(bound.max(initial=0.0))
+                ii = np.nonzero(bound < pool.threshold() + tol)[0]
+                if ii.size:
+                    rows, vals = tables.values_below(codes[ii], pool.threshold())
+                    pool.add(codes[ii[rows]], vals)
                 done += (e - s) * ns
                 if tick is not None:
                     tick(done)

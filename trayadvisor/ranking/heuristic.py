@@ -60,8 +60,6 @@ def _block_space(layout: Layout, space: Space, tables: Tables, identity: bool
                         for x, y in blk.positions_mm])
     if to_main.min() < 0:
         return None
-    t = object.__new__(Tables)
-    t.V, t.F, t.pts_m, t._stage = tables.V[to_main], tables.F, tables.pts_m, None
     if space.mirror is not None and space.mirror_axis_mm is not None:
         blk.mirror = find_mirror(blk, layout, space.mirror_axis_mm, identity)
 
@@ -71,7 +69,7 @@ def _block_space(layout: Layout, space: Space, tables: Tables, identity: bool
         out[:, to_main] = codes
         return out
 
-    return blk, t, expand
+    return blk, tables.reduced(tables.V[to_main], expand), expand
 
 
 def _compose(inner: Problem, outer: Callable[[np.ndarray], np.ndarray]) -> Problem:

@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trayadvisor.ranking.solved import move_state
 from trayadvisor.ranking.space import Space
 from trayadvisor.ranking.tables import Pool, Tables
 
@@ -105,8 +106,10 @@ class LocalSearch:
         return a
 
     def descend(self, a: np.ndarray, pool: Pool | None = None
-                ) -> tuple[np.ndarray, np.ndarray, float]:
+                ) -> tuple[np.ndarray, np.ndarray | None, float]:
         """Improve ``a`` until no move lowers the maximum; returns (a, field, max r²)."""
+        if not self.t.linear:
+            return self._descend_exact(a, pool)
         a = a.copy()
         v = self.t.V
         s = self.t.fields(a)[0]
@@ -152,6 +155,52 @@ class LocalSearch:
                 if pool is not None:
                     pool.add(a[None], np.array([m]))
                 return a, s, m
+
+    def _descend_exact(self, a: np.ndarray, pool: Pool | None
+                       ) -> tuple[np.ndarray, None, float]:
+        """:meth:`descend` with exact solved scores (the currents change with every move).
+
+        Every move is scored exactly on the few points where the field now peaks — a lower
+        bound of its value, so a move that does not lower the field there cannot lower the
+        maximum — and the most promising ones on every point.
+        """
+        state = move_state(self.t, a)  # type: ignore[arg-type]
+        while True:
+            m = state.value
+            q = state.peaks(_SCREEN_POINTS)
+            cand: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+            cur = state.a
+            for pos, src in self.families:
+                ok = (cur[pos] != cur[src]).any(axis=1)
+                p, r = pos[ok], src[ok]
+                if p.size == 0:
+                    continue
+                b = state.screen(p, r, q)
+                self.stats.screened += int(b.size)
+                keep = b < m
+                cand.append((p[keep], r[keep], b[keep]))
+            improved = False
+            for p, r, b in cand:
+                order = np.argsort(b, kind="stable")
+                for k in range(0, min(order.size, _BATCH * _MAX_BATCHES), _BATCH):
+                    sel = order[k:k + _BATCH]
+                    ps, rs = p[sel], r[sel]
+                    val = state.evaluate(ps, rs)
+                    self.stats.evaluated += int(sel.size)
+                    if pool is not None:
+                        pool.add(self._moved(state.a, ps, rs), val)
+                    best = int(np.argmin(val))
+                    if val[best] < m * (1.0 - 1e-12):
+                        state.apply(ps[best], rs[best])
+                        improved = True
+                        break
+                if improved:
+                    break
+            if not improved:
+                self.stats.descents += 1
+                if pool is not None:
+                    pool.add(state.a[None], np.array([m]))
+                return state.a.copy(), None, m
 
     @staticmethod
     def _moved(a: np.ndarray, pos: np.ndarray, src: np.ndarray) -> np.ndarray:

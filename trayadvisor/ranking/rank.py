@@ -17,17 +17,20 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable, Sequence
+from functools import partial
 
 import numpy as np
 
 from trayadvisor.coupling import (
     CURRENT_MODELS,
+    DEFAULT_TEMPERATURE_C,
+    carried_sources,
     imbalance_constraint,
     induced_voltage_constraint,
-    solved_sources,
+    solve_sharing,
 )
-from trayadvisor.engine import DEFAULT_DISTANCE_MM, far_field, layout_sources
-from trayadvisor.engine.units import MM, UT
+from trayadvisor.engine import DEFAULT_DISTANCE_MM, SourceArrays, far_field, layout_sources
+from trayadvisor.engine.units import UT
 from trayadvisor.model import Layout
 from trayadvisor.ranking.build import build_space
 from trayadvisor.ranking.errors import RankError
@@ -38,6 +41,7 @@ from trayadvisor.ranking.objective import Objective, make_objective
 from trayadvisor.ranking.result import Constraint, RankOption, RankResult
 from trayadvisor.ranking.sketch import sketch_text
 from trayadvisor.ranking.slots import SLOT_RULES
+from trayadvisor.ranking.solved import SolvedTables
 from trayadvisor.ranking.symmetry import find_mirror, phase_symmetries, symmetry_group
 from trayadvisor.ranking.tables import Pool, Tables
 
@@ -45,7 +49,6 @@ DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by defa
 DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
 _SEED_DESCENTS = 16  # local-search descents that seed the exhaustive pool's threshold
 _SMALL = 512  # below this many arrangements no seeding is needed
-SHARING_RESCORE = 48  #: candidates re-scored with solved current sharing
 
 
 def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: float,
@@ -131,6 +134,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
                 objective: str | None = None, slots: str | None = None,
                 bundles: bool = False, max_exhaustive: int = DEFAULT_MAX_EXHAUSTIVE,
                 budget_s: float | None = None, seed: int = 0, currents: str = "solved",
+                temperature_c: float = DEFAULT_TEMPERATURE_C,
                 max_imbalance_pct: float = math.inf,
                 max_induced_mV_per_m: float = math.inf,  # noqa: N803
                 constraints: Sequence[Constraint] = (),
@@ -172,8 +176,11 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     max_evaluations, patience : int, optional
         Heuristic stops: scored arrangements; descents without a new best.
     currents : {"solved", "equal"}
-        Score the options with the solved current sharing between parallel conductors
-        (:func:`trayadvisor.coupling.carried_sources`, the default) or equal shares.
+        Score every arrangement with its own solved current sharing between parallel
+        conductors (the default; the search, its bounds and certification included) or
+        with equal shares.
+    temperature_c : float
+        Conductor temperature for the resistance in the sharing solve, °C.
     max_imbalance_pct : float
         Keep only options whose parallel conductors share current within this imbalance
         (%, (max − min)/mean of each phase group, solved sharing); inf keeps all.
@@ -203,15 +210,22 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     obj = make_objective(layout, float(distance_mm), objective, src)
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
                                         currents, coupling_figures)
-    identity = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
+    solved = currents == "solved"
+    # Solved currents tell apart the parallel groups and sizes, like finite constraints.
+    identity = solved or any(not math.isinf(float(getattr(c, "limit", 0.0)))
+                             for c in constraints)
     space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
     notes = list(space.notes)
-    _symmetries(space, layout, obj, identity, notes)
+    # Swapping L2 and L3 (complex conjugation) keeps every field only while nothing
+    # distinguishes the conductors and the solved currents see no resistance.
+    finite = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
+    conjugate = not finite and (not solved or all(
+        g.reactance_only for g in solve_sharing(layout, temperature_c).groups))
+    _symmetries(space, layout, obj, identity, conjugate, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
-    sharing = currents == "solved"
-    baseline = obj.score_uT(solved_sources(layout) if sharing else src,
-                            layout, base_pos)
+    carried = partial(carried_sources, currents=currents, temperature_c=temperature_c)
+    baseline = obj.score_uT(carried(layout), layout, base_pos)
     method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
     deadline = None
     if budget_s is not None:
@@ -221,26 +235,25 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     reporter = _Reporter(progress, t0)
     capacity = max(64, 8 * top_k)
     evaluated, screened, stop, options, certified = 0, 0, "", [], False
+    tables = (SolvedTables(space, src, obj.search_m, layout, temperature_c) if solved
+              else Tables(space, src, obj.search_m)) if space.n_positions else None
     for _ in range(3):
         pool = Pool(capacity, space.n_positions, space.canonical)
-        evaluated, screened, stop = _search(layout, space, src, obj, pool, method, distinct,
+        evaluated, screened, stop = _search(layout, space, tables, pool, method, distinct,
                                             seed=seed,
                                             identity=identity, deadline=deadline,
                                             cancel=cancel, reporter=reporter,
                                             patience=patience,
                                             max_evaluations=max_evaluations)
-        options, certified = _rescore(layout, space, obj, src, pool, top_k, constraints,
-                                      sharing)
-        if method != "exhaustive" or stop or certified or sharing:
+        options, certified = _rescore(layout, space, obj, carried, pool, top_k, constraints)
+        if method != "exhaustive" or stop or certified:
             break
         capacity *= 8
         notes.append("pool enlarged to certify the top options after re-scoring")
     if method == "exhaustive" and stop:
         certified = False
-    if sharing:
-        certified = False
-        notes.append(f"with current sharing: searched with equal shares, the best "
-                     f"{SHARING_RESCORE} candidates re-scored with the solved sharing")
+    if solved:
+        notes.append("every arrangement scored with its own solved current sharing")
     if stop:
         notes.append({"budget": "stopped at the time budget: best found so far",
                       "cancelled": "cancelled: best found so far"}.get(stop, stop))
@@ -261,13 +274,13 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
 
 
 def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
-                notes: list[str]) -> None:
+                conjugate: bool, notes: list[str]) -> None:
     """Find the transformations that leave the objective unchanged (merged in the options)."""
     if space.n_positions == 0:
         return
     axis = obj.mirror_axis_mm(layout)
     mirror = find_mirror(space, layout, axis, identity) if axis is not None else None
-    kmaps = phase_symmetries(space, layout, conjugate=not identity)
+    kmaps = phase_symmetries(space, layout, conjugate=conjugate)
     if mirror is not None:
         space.mirror, space.mirror_axis_mm = mirror, axis
         notes.append(f"mirror twins merged (symmetric about x = {axis:g} mm)")
@@ -277,7 +290,7 @@ def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: 
     space.symmetries = symmetry_group(mirror, kmaps)
 
 
-def _search(layout: Layout, space, src, obj: Objective, pool: Pool,  # noqa: ANN001
+def _search(layout: Layout, space, tables: Tables | None, pool: Pool,  # noqa: ANN001
             method: str, distinct: int, *, seed: int, identity: bool,
             deadline: float | None, cancel: Callable[[], bool] | None,
             reporter: _Reporter, patience: int | None, max_evaluations: int | None
@@ -286,7 +299,6 @@ def _search(layout: Layout, space, src, obj: Objective, pool: Pool,  # noqa: ANN
     if space.n_positions == 0:
         pool.add(np.zeros((1, 0), dtype=np.int64), np.zeros(1))
         return 1, 0, ""
-    tables = Tables(space, src, obj.search_m)
     if method == "exhaustive":
         if distinct > _SMALL:
             run_local(space, tables, pool, seed=seed, patience=_SEED_DESCENTS,
@@ -322,24 +334,20 @@ def _db(base: float, v: float) -> float:
     return float(20.0 * np.log10(base / v)) if v > 0 else float("inf")
 
 
-def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,  # noqa: ANN001
-             constraints: Sequence[Constraint], sharing: bool = False) -> tuple[list, bool]:
+def _rescore(layout: Layout, space, obj: Objective,  # noqa: ANN001
+             carried: Callable[[Layout], SourceArrays], pool: Pool, top_k: int,
+             constraints: Sequence[Constraint]) -> tuple[list, bool]:
     """Re-score the pool in sampled order with the exact objective; returns (options, certified).
 
     Stops once the next sampled value is at or above the K-th re-scored value, which proves
-    no arrangement left (in the pool or outside it) can enter the top K. With ``sharing``
-    the currents of each candidate come from its own sharing solve, the sampled values are
-    no bound, and the first :data:`SHARING_RESCORE` candidates are re-scored instead.
+    no arrangement left (in the pool or outside it) can enter the top K: the sampled value
+    is the same arrangement's field (with its own currents) on a subset of the points.
     """
     sampled = np.sqrt(pool.values) * UT
     found: list[tuple[float, dict, int | None, dict]] = []
-    names = [c.name for c in layout.conductors]
     certified = False
     for n in range(len(pool)):
-        if sharing:
-            if n >= max(SHARING_RESCORE, top_k):
-                break
-        elif len(found) >= top_k and sampled[n] * (1.0 - 1e-9) >= found[top_k - 1][0]:
+        if len(found) >= top_k and sampled[n] * (1.0 - 1e-9) >= found[top_k - 1][0]:
             certified = True
             break
         a = _closest(space, pool.codes[n].astype(np.int64))
@@ -348,10 +356,9 @@ def _rescore(layout: Layout, space, obj: Objective, src, pool: Pool, top_k: int,
         ok, figs = _check(constraints, moved) if constraints else (True, {})
         if not ok:
             continue
-        value = obj.score_uT(solved_sources(moved) if sharing else src,
-                             layout, pos)
-        xy = np.array([pos[nm] for nm in names], dtype=float).reshape(-1, 2) * MM
-        order = far_field(xy, src.currents).order
+        src = carried(moved)
+        value = obj.score_uT(src, layout, pos)
+        order = far_field(src.xy_m, src.currents).order
         found.append((value, pos, order, figs))
         found.sort(key=lambda f: f[0])
     else:

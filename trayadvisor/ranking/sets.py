@@ -147,10 +147,6 @@ def paired_subproblem(space: Space, tables: Tables,
     own = img == rep
     sub = Space(space.positions_mm[rep], space.diameters_mm[rep], space.kinds, tuple(cells),
                 tuple(groups), space.set_types, counts, space.fixed, None, space.rule)
-    red = object.__new__(Tables)
-    red.V = np.ascontiguousarray(np.where(own[:, None, None, None], tables.V[rep],
-                                          tables.V[rep] + tables.V[img]))
-    red.F, red.pts_m, red._stage = tables.F, tables.pts_m, None
     n_full = space.n_positions
 
     def expand(codes: np.ndarray) -> np.ndarray:
@@ -160,6 +156,8 @@ def paired_subproblem(space: Space, tables: Tables,
         out[:, img] = codes
         return out
 
+    red = tables.reduced(np.where(own[:, None, None, None], tables.V[rep],
+                                  tables.V[rep] + tables.V[img]), expand)
     return sub, red, expand
 
 

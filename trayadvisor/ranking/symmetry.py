@@ -87,13 +87,6 @@ def mirror_subproblem(space: Space, tables: Tables
     sub = Space(space.positions_mm[rep], space.diameters_mm[rep], space.kinds, tuple(cells),
                 tuple(groups), space.set_types, space.type_counts // 2, space.fixed, None,
                 space.rule)
-    red = object.__new__(Tables)
-    red.V = np.ascontiguousarray(np.where(own[:, None, None, None], tables.V[rep],
-                                          tables.V[rep] + tables.V[partner]))
-    red.F = tables.F
-    red.pts_m = tables.pts_m
-    red._stage = None
-
     def expand(codes: np.ndarray) -> np.ndarray:
         codes = np.asarray(codes).reshape(-1, rep.size)
         out = np.empty((codes.shape[0], space.n_positions), dtype=np.int64)
@@ -101,6 +94,8 @@ def mirror_subproblem(space: Space, tables: Tables
         out[:, partner] = codes
         return out
 
+    red = tables.reduced(np.where(own[:, None, None, None], tables.V[rep],
+                                  tables.V[rep] + tables.V[partner]), expand)
     return sub, red, expand
 
 

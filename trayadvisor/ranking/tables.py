@@ -41,9 +41,16 @@ class Tables:
         The layout's sources (currents and radii of the fixed conductors).
     pts_m : (P, 2) float
         Objective points, m.
+    keep_all : bool
+        Keep every channel, also those zero for every kind (the exact solved scores of
+        :class:`~trayadvisor.ranking.solved.SolvedTables` have all of them).
     """
 
-    def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray) -> None:
+    #: Scores are sums of the tables (equal shares); False for the solved tables.
+    linear = True
+
+    def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray,
+                 keep_all: bool = False) -> None:
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         pos = space.positions_mm * MM
         g = unit_field(pos, 0.5 * space.diameters_mm * MM, pts)  # (J, P, 2)
@@ -61,7 +68,9 @@ class Tables:
             v = np.zeros((j, k, pts.shape[0], f.shape[-1]))
         live = (np.abs(v).reshape(-1, v.shape[-1]).max(axis=0, initial=0.0) > 0) | \
             (np.abs(f).max(axis=0, initial=0.0) > 0)
-        if not live.any():
+        if keep_all:
+            live[:] = True
+        elif not live.any():
             live[0] = True
         self.V = np.ascontiguousarray(v[..., live])
         self.F = np.ascontiguousarray(f[:, live])
@@ -79,6 +88,13 @@ class Tables:
         t.F = np.ascontiguousarray(self.F[idx])
         t.pts_m = self.pts_m[idx]
         t._stage = None
+        return t
+
+    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray]) -> Tables:
+        """The tables of a restricted sub-problem whose per-position tables are ``v``
+        (``expand`` maps its codes to this space; sums of tables need no expansion)."""
+        t = object.__new__(Tables)
+        t.V, t.F, t.pts_m, t._stage = np.ascontiguousarray(v), self.F, self.pts_m, None
         return t
 
     def fields(self, codes: np.ndarray) -> np.ndarray:

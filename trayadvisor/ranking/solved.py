@@ -1,0 +1,473 @@
+"""Exact scores of arrangements with the currents each one really carries (solved sharing).
+
+With solved sharing the currents of parallel conductors depend on where every conductor
+lies, so an arrangement's field is no longer a sum of per-position tables. It is still cheap
+to get exactly, because the candidate positions do not move:
+
+- Every movable position and every fixed parallel conductor is a row s of one impedance
+  matrix Z (self and mutual inductance, resistance at each component's own frequency). When
+  the conductors that may share a position have one size (the usual case), Z does not depend
+  on the arrangement, so Y = Z⁻¹ is computed once per frequency component.
+- An arrangement assigns every row a *column*: its parallel group (one per circuit and
+  phase), or a column of its own for a conductor whose current is known (a single
+  conductor of a phase, an empty place: current 0). All rows of a column share one voltage
+  drop U, and a column's currents sum to its total T. With the incidence matrix E (rows ×
+  columns) the currents are I = Y (E U − c), c = Z I_k the voltage the fixed known currents
+  induce, and U solves the small system (Eᵀ Y E) U = T + Eᵀ Y c.
+- The field of the arrangement at a point is Σ_s I_s g_s(p) plus that of the fixed known
+  currents.
+
+A move of a local search changes a few rows of E, so Eᵀ Y E changes by a few outer products
+and a move costs O(columns²) plus the field on the points it is screened on
+(:class:`MoveState`). When the sizes differ, every arrangement is solved in full with the
+layout's sharing plan (:mod:`trayadvisor.coupling.sharing`), exact but slower.
+
+The result is identical to :func:`trayadvisor.coupling.solved_sources` on the arrangement's
+positions.
+
+References
+----------
+F. W. Grover, *Inductance Calculations*, 1946 (self and mutual inductance per metre); the
+reduction to the columns is a Schur complement of the bordered system (Golub and Van Loan,
+*Matrix Computations*, from memory).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from trayadvisor.coupling import (
+    SharingError,
+    SharingPlan,
+    log_distance_matrix,
+    sharing_plan,
+    solve_plan,
+)
+from trayadvisor.engine import SourceArrays, unit_field
+from trayadvisor.engine.units import K_LINE, MM
+from trayadvisor.model import Layout
+from trayadvisor.ranking.space import TOL_MM, Space
+from trayadvisor.ranking.tables import Tables
+
+_STAGE_POINTS = 48  # points of the first pass of :meth:`SolvedTables.values_below`
+_CHUNK = 2048  # arrangements per batched solve
+
+
+def _channels(b: np.ndarray) -> np.ndarray:
+    """(N, H, P, 2) complex → (N, P, 4H) real channels, per component [Re x, Re y, Im x, Im y]
+    (the layout of :class:`trayadvisor.ranking.tables.Tables`)."""
+    n, h, p, _ = b.shape
+    out = np.concatenate([b.real, b.imag], axis=-1)  # (N, H, P, 4)
+    return np.ascontiguousarray(out.transpose(0, 2, 1, 3)).reshape(n, p, 4 * h)
+
+
+@dataclass
+class _Model:
+    """Everything of the solve that depends neither on the arrangement nor on the points."""
+
+    plan: SharingPlan
+    n_rows: int  # J movable rows, then the fixed parallel conductors
+    fixed_free: np.ndarray  # conductor indices of fixed conductors in parallel groups
+    fixed_known: np.ndarray  # conductor indices of the other fixed conductors
+    kind_group: np.ndarray  # (K,) column of a free kind's group, -1 for known kinds
+    known_kinds: np.ndarray  # kinds with a known current (empty places included)
+    known_base: np.ndarray  # (K,) first column of a known kind's own columns
+    n_cols: int
+    col_total: np.ndarray  # (H, G) column totals
+    ff_col: np.ndarray  # columns of the fixed parallel conductors
+    schur: bool  # Y is arrangement-independent
+    Y: np.ndarray | None  # (H, S, S)
+    yc: np.ndarray | None  # (H, S) Y c
+    xy_rows: np.ndarray  # (S, 2) m
+    radius_rows: np.ndarray  # (S,) m
+    kind_members: tuple[tuple[int, ...], ...]
+
+
+def _model(space: Space, layout: Layout, temperature_c: float) -> _Model:
+    plan = sharing_plan(layout, temperature_c)
+    src = plan.sources
+    group_of = {int(i): int(g) for i, g in zip(plan.free, plan.group_of_free, strict=True)}
+    fixed = np.array(space.fixed, dtype=int)
+    fixed_free = np.array([i for i in fixed if i in group_of], dtype=int)
+    fixed_known = np.array([i for i in fixed if i not in group_of], dtype=int)
+    k = space.n_kinds
+    kind_group = np.full(k, -1, dtype=int)
+    for q, kind in enumerate(space.kinds):
+        gs = {group_of.get(i, -1) for i in kind.members}
+        if len(gs) > 1:
+            raise ValueError(f"kind {kind.label} mixes parallel and single conductors")
+        kind_group[q] = gs.pop() if gs else -1
+    g_par = plan.starts.size
+    known_kinds = np.nonzero(kind_group < 0)[0]
+    counts = np.zeros(k, dtype=int)  # how many positions hold each kind (any arrangement)
+    a = space.reference()
+    np.add.at(counts, a, 1)
+    known_base = np.full(k, -1, dtype=int)
+    col = g_par
+    for q in known_kinds:
+        known_base[q] = col
+        col += int(counts[q])
+    n_cols = col
+    h = plan.orders.size
+    col_total = np.zeros((h, n_cols), dtype=complex)
+    col_total[:, :g_par] = plan.totals
+    for q in known_kinds:
+        cur = space.kinds[q].currents if not space.kinds[q].empty else np.zeros(h)
+        col_total[:, known_base[q]:known_base[q] + counts[q]] = np.asarray(cur)[:, None]
+    ff_col = np.array([group_of[int(i)] for i in fixed_free], dtype=int)
+    j = space.n_positions
+    xy_rows = np.concatenate([space.positions_mm * MM, src.xy_m[fixed_free]]).reshape(-1, 2)
+    radius_rows = np.concatenate([0.5 * space.diameters_mm * MM, src.radius_m[fixed_free]])
+    model = _Model(plan, j + fixed_free.size, fixed_free, fixed_known, kind_group, known_kinds,
+                   known_base, n_cols, col_total, ff_col, False, None, None, xy_rows,
+                   radius_rows, tuple(kd.members for kd in space.kinds))
+    _impedance(model, space)
+    return model
+
+
+def _impedance(m: _Model, space: Space) -> None:
+    """Y = Z⁻¹ over the rows when every free kind of a diameter has one impedance."""
+    plan = m.plan
+    pos_free = {int(i): p for p, i in enumerate(plan.free)}
+    r_of = {}  # row → (H,) resistance and gmr of its free occupants
+    diam = space.diameters_mm
+    for q, kind in enumerate(space.kinds):
+        if m.kind_group[q] < 0:
+            continue
+        sig = [(tuple(np.round(plan.r_free[:, pos_free[i]], 15)),
+                round(float(plan.gmr[i]), 15)) for i in kind.members]
+        if len(set(sig)) > 1:
+            return
+        for jj in np.nonzero(np.abs(diam - kind.diameter_mm) <= TOL_MM)[0]:
+            if int(jj) in r_of and r_of[int(jj)] != sig[0]:
+                return  # two free kinds of different impedance may take this place
+            r_of[int(jj)] = sig[0]
+    h = plan.orders.size
+    s = m.n_rows
+    r = np.ones((h, s))
+    gmr = np.array(m.radius_rows) * np.exp(-0.25)
+    for row, (rr, g) in r_of.items():
+        r[:, row] = rr
+        gmr[row] = g
+    j = space.n_positions
+    for n, i in enumerate(m.fixed_free):
+        r[:, j + n] = plan.r_free[:, pos_free[int(i)]]
+        gmr[j + n] = plan.gmr[i]
+    with np.errstate(all="ignore"):
+        lam = log_distance_matrix(m.xy_rows, gmr)
+        src = plan.sources
+        kx = src.xy_m[m.fixed_known]
+        dk = np.hypot(m.xy_rows[:, None, 0] - kx[None, :, 0],
+                      m.xy_rows[:, None, 1] - kx[None, :, 1])
+        lam_k = np.log(dk)
+    if not (np.all(np.isfinite(lam)) and np.all(np.isfinite(lam_k))):
+        return  # a candidate place on a fixed conductor: the full solve reports it
+    y = np.empty((h, s, s), dtype=complex)
+    yc = np.empty((h, s), dtype=complex)
+    i_k = src.currents[:, m.fixed_known]
+    for k in range(h):
+        w = plan.omega[k]
+        z = -1j * w * K_LINE * lam
+        z[np.arange(s), np.arange(s)] += r[k]
+        try:
+            y[k] = np.linalg.inv(z)
+        except np.linalg.LinAlgError:
+            return
+        c = (-1j * w * K_LINE * lam_k) @ i_k[k]
+        yc[k] = y[k] @ c
+    m.Y, m.yc, m.schur = y, yc, True
+
+
+class SolvedTables(Tables):
+    """Exact field of arrangements with their own solved currents, on a set of points.
+
+    Has the attributes of :class:`~trayadvisor.ranking.tables.Tables` (``V``, ``F`` hold
+    the equal-share tables, all channels kept, for screening moves and building
+    sub-problems) and overrides the scoring: :meth:`fields`, :meth:`values` and
+    :meth:`values_below` are exact. ``expand`` maps the codes of a restricted sub-problem to
+    the full space before solving.
+    """
+
+    linear = False
+
+    def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray, layout: Layout,
+                 temperature_c: float) -> None:
+        super().__init__(space, src, pts_m, keep_all=True)
+        self.model = _model(space, layout, temperature_c)
+        self.space = space
+        self.expand: Callable[[np.ndarray], np.ndarray] | None = None
+        self._points(np.asarray(pts_m, dtype=float).reshape(-1, 2))
+
+    def _points(self, pts: np.ndarray) -> None:
+        m = self.model
+        self.pts_m = pts
+        self.g_rows = unit_field(m.xy_rows, m.radius_rows, pts)  # (S, P, 2)
+        src = m.plan.sources
+        g_k = unit_field(src.xy_m[m.fixed_known], src.radius_m[m.fixed_known], pts)
+        self.b_known = np.einsum("hk,kpc->hpc", src.currents[:, m.fixed_known], g_k)
+
+    # -- derived tables ----------------------------------------------------------------------
+    def subset(self, idx: np.ndarray) -> SolvedTables:
+        t = self._copy(self.V[:, :, idx], self.F[idx], self.expand)
+        t._points(self.pts_m[idx])
+        return t
+
+    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray]
+                ) -> SolvedTables:
+        """The tables of a restricted sub-problem: screening tables ``v`` over its
+        positions, exact scores through ``expand`` (sub-problem codes → this space)."""
+        outer = self.expand
+        t = self._copy(v, self.F, expand if outer is None else (lambda c: outer(expand(c))))
+        t.pts_m, t.g_rows, t.b_known = self.pts_m, self.g_rows, self.b_known
+        return t
+
+    def _copy(self, v: np.ndarray, f: np.ndarray,
+              expand: Callable[[np.ndarray], np.ndarray] | None) -> SolvedTables:
+        t = object.__new__(SolvedTables)
+        t.V, t.F, t._stage = np.ascontiguousarray(v), np.ascontiguousarray(f), None
+        t.model, t.space, t.expand = self.model, self.space, expand
+        return t
+
+    # -- scoring ---------------------------------------------------------------------------
+    def row_currents(self, codes: np.ndarray) -> np.ndarray:
+        """(N, H, S) solved currents of the rows (movable positions, then the fixed parallel
+        conductors) for full-space ``codes`` (N, J)."""
+        m = self.model
+        codes = np.asarray(codes, dtype=np.int64).reshape(-1, self.space.n_positions)
+        if m.schur:
+            return _schur_currents(m, self.columns(codes))
+        return _full_currents(m, self.space, codes)
+
+    def columns(self, codes: np.ndarray) -> np.ndarray:
+        """(N, S) column of every row (see the module notes)."""
+        m = self.model
+        col = m.kind_group[codes]
+        for q in m.known_kinds:
+            mask = codes == q
+            col = np.where(mask, m.known_base[q] + np.cumsum(mask, axis=1) - 1, col)
+        ff = np.broadcast_to(m.ff_col, (codes.shape[0], m.ff_col.size))
+        return np.concatenate([col, ff], axis=1)
+
+    def complex_fields(self, codes: np.ndarray) -> np.ndarray:
+        """(N, H, P, 2) complex field of each arrangement at the points, T."""
+        codes = np.asarray(codes, dtype=np.int64)
+        if self.expand is not None:
+            codes = self.expand(codes)
+        codes = codes.reshape(-1, self.space.n_positions)
+        out = np.empty((codes.shape[0], self.b_known.shape[0], *self.g_rows.shape[1:]),
+                       dtype=complex)
+        for s in range(0, codes.shape[0], _CHUNK):
+            cur = self.row_currents(codes[s:s + _CHUNK])  # (n, H, S)
+            out[s:s + _CHUNK] = np.einsum("nhs,spc->nhpc", cur, self.g_rows,
+                                          optimize=True) + self.b_known[None]
+        return out
+
+    def fields(self, codes: np.ndarray) -> np.ndarray:
+        return _channels(self.complex_fields(codes))
+
+    def values(self, codes: np.ndarray) -> np.ndarray:
+        b = self.complex_fields(codes)
+        return (b.real ** 2 + b.imag ** 2).sum(axis=(1, 3)).max(axis=1)
+
+    def values_below(self, codes: np.ndarray, threshold: float
+                     ) -> tuple[np.ndarray, np.ndarray]:
+        codes = np.asarray(codes)
+        p = self.pts_m.shape[0]
+        keep = np.arange(codes.shape[0])
+        if np.isfinite(threshold) and p > 2 * _STAGE_POINTS and codes.shape[0] > 8:
+            if self._stage is None:
+                self._stage = self.subset(np.linspace(0, p, _STAGE_POINTS, endpoint=False)
+                                          .astype(int))
+            keep = np.nonzero(self._stage.values(codes) < threshold)[0]
+        v = self.values(codes[keep])
+        ok = v < threshold
+        return keep[ok], v[ok]
+
+
+def _schur_currents(m: _Model, col: np.ndarray) -> np.ndarray:
+    """(N, H, S) currents from the columns (N, S) with the precomputed Y."""
+    n, s = col.shape
+    e = np.zeros((n, s, m.n_cols))
+    np.put_along_axis(e, col[:, :, None], 1.0, axis=2)
+    et = np.swapaxes(e, 1, 2)
+    out = np.empty((n, m.Y.shape[0], s), dtype=complex)
+    for k in range(m.Y.shape[0]):
+        p = m.Y[k] @ e  # (N, S, G)
+        mat = et @ p  # (N, G, G)
+        rhs = m.col_total[k][None, :] + et @ m.yc[k]
+        with np.errstate(all="ignore"):
+            try:
+                u = np.linalg.solve(mat, rhs[..., None])[..., 0]
+            except np.linalg.LinAlgError:
+                u = np.full(rhs.shape, np.nan, dtype=complex)
+        out[:, k] = (p @ u[..., None])[..., 0] - m.yc[k][None, :]
+    if not np.all(np.isfinite(out)):
+        raise SharingError("the current sharing of some arrangement has no solution")
+    return out
+
+
+def _full_currents(m: _Model, space: Space, codes: np.ndarray) -> np.ndarray:
+    """(N, H, S) currents by the layout's full sharing solve (sizes differ by arrangement)."""
+    plan = m.plan
+    src = plan.sources
+    n = codes.shape[0]
+    xy = np.broadcast_to(src.xy_m, (n, *src.xy_m.shape)).copy()
+    cond_at = np.full((n, space.n_positions), -1, dtype=int)
+    for q, members in enumerate(m.kind_members):
+        if not members:
+            continue
+        mask = codes == q
+        rank = np.cumsum(mask, axis=1) - 1
+        mem = np.asarray(members)
+        cond_at = np.where(mask, mem[np.minimum(rank, mem.size - 1)], cond_at)
+    rows, cols = np.nonzero(cond_at >= 0)
+    xy[rows, cond_at[rows, cols]] = space.positions_mm[cols] * MM
+    cur = solve_plan(plan, xy)  # (N, H, n)
+    h = plan.orders.size
+    out = np.zeros((n, h, m.n_rows), dtype=complex)
+    out[rows, :, cols] = cur[rows, :, cond_at[rows, cols]]
+    if m.fixed_free.size:
+        out[:, :, space.n_positions:] = cur[:, :, m.fixed_free]
+    return out
+
+
+class MoveState:
+    """One arrangement of a local search, with the pieces that make a move cheap to score.
+
+    Per frequency component it keeps P = Y E (rows × columns), the column system
+    M = Eᵀ Y E and its right-hand side, and the columns' field tables aG = Eᵀ Y g (see the
+    module notes). A move gives some rows a new column: E changes by a few outer products,
+    so M, the right-hand side and aG change by sums over those rows only, and the new
+    currents come from one small solve per component. Exact, like a full solve.
+    """
+
+    def __init__(self, tables: SolvedTables, a: np.ndarray) -> None:
+        m = tables.model
+        if not m.schur or tables.expand is not None:
+            raise ValueError("moves are scored incrementally on a main space with a fixed Y")
+        self.t, self.m = tables, m
+        self.a = np.asarray(a, dtype=np.int64).copy()
+        self.col = tables.columns(self.a[None])[0]
+        s, g = m.n_rows, m.n_cols
+        gt = tables.g_rows.reshape(s, -1)  # (S, 2P) real
+        self.ay = np.einsum("hst,tq->hsq", m.Y, gt)  # (H, S, 2P)
+        self.b0 = tables.b_known.reshape(m.Y.shape[0], -1) - m.yc @ gt  # (H, 2P)
+        e = np.zeros((s, g))
+        e[np.arange(s), self.col] = 1.0
+        self.p = m.Y @ e  # (H, S, G)
+        self.mat = e.T @ self.p  # (H, G, G)
+        self.rhs = m.col_total + m.yc @ e  # (H, G)
+        self.ag = np.einsum("sg,hsq->hgq", e, self.ay)  # (H, G, 2P)
+        self.value = float(self._values(self.mat[None], self.rhs[None], self.ag[None],
+                                        slice(None))[0])
+
+    def _values(self, mat: np.ndarray, rhs: np.ndarray, ag: np.ndarray, q: slice | np.ndarray
+                ) -> np.ndarray:
+        """max over points of Σ_h |B_h|² for batched systems (N, H, G, G)."""
+        with np.errstate(all="ignore"):
+            try:
+                u = np.linalg.solve(mat, rhs[..., None])[..., 0]  # (N, H, G)
+            except np.linalg.LinAlgError:
+                return np.full(mat.shape[0], np.inf)
+        b = np.einsum("nhg,nhgq->nhq", u, ag) + self.b0[None][..., q]  # (N, H, 2Q)
+        r2 = (b.real ** 2 + b.imag ** 2).sum(axis=1)
+        r2 = r2.reshape(r2.shape[0], -1, 2).sum(axis=-1)
+        out = r2.max(axis=1)
+        return np.where(np.isfinite(out), out, np.inf)
+
+    def peaks(self, n: int) -> np.ndarray:
+        """Indices of the ``n`` points where the field is largest now."""
+        b = np.einsum("hg,hgq->hq", np.linalg.solve(self.mat, self.rhs[..., None])[..., 0],
+                      self.ag) + self.b0
+        r2 = (b.real ** 2 + b.imag ** 2).sum(axis=0).reshape(-1, 2).sum(axis=1)
+        return np.argpartition(r2, -min(n, r2.size))[-n:]
+
+    def _moved(self, pos: np.ndarray, src: np.ndarray, q: slice | np.ndarray
+               ) -> tuple[np.ndarray, ...]:
+        """The systems after each move (rows ``pos`` take the contents of ``src``)."""
+        m = self.m
+        g = m.n_cols
+        new = self.col[src]
+        old = self.col[pos]
+        d = np.zeros((*pos.shape, g))  # (N, r, G)
+        np.put_along_axis(d, new[..., None], 1.0, axis=2)
+        np.put_along_axis(d, old[..., None], -1.0, axis=2)
+        d[new == old] = 0.0
+        pr = self.p[:, pos]  # (H, N, r, G)
+        cross = np.einsum("nrg,hnrk->hngk", d, pr)
+        yrr = m.Y[:, pos[:, :, None], pos[:, None, :]]  # (H, N, r, r)
+        quad = np.einsum("nrg,hnrs,nsk->hngk", d, yrr, d)
+        mat = self.mat[:, None] + cross + np.swapaxes(cross, -1, -2) + quad
+        rhs = self.rhs[:, None] + np.einsum("nrg,hnr->hng", d, m.yc[:, pos])
+        ag = self.ag[:, None][..., q] + np.einsum("nrg,hnrq->hngq", d, self.ay[:, pos][..., q])
+        return (np.moveaxis(mat, 1, 0), np.moveaxis(rhs, 1, 0), np.moveaxis(ag, 1, 0), d)
+
+    def _q(self, points: np.ndarray | None) -> slice | np.ndarray:
+        if points is None:
+            return slice(None)
+        return np.stack([2 * points, 2 * points + 1], axis=1).ravel()
+
+    def screen(self, pos: np.ndarray, src: np.ndarray, points: np.ndarray) -> np.ndarray:
+        """Exact value of each move on ``points`` only: a lower bound of its value."""
+        q = self._q(points)
+        mat, rhs, ag, _ = self._moved(pos, src, q)
+        return self._values(mat, rhs, ag, q)
+
+    def evaluate(self, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
+        """Exact value of each move on every point."""
+        mat, rhs, ag, _ = self._moved(pos, src, slice(None))
+        return self._values(mat, rhs, ag, slice(None))
+
+    def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
+        """Make one move (``pos``, ``src``: the rows of one move)."""
+        pos, src = np.asarray(pos)[None], np.asarray(src)[None]
+        mat, rhs, ag, d = self._moved(pos, src, slice(None))
+        self.mat, self.rhs, self.ag = mat[0], rhs[0], ag[0]
+        self.p = self.p + np.einsum("hsr,rg->hsg", self.m.Y[:, :, pos[0]], d[0])
+        self.a[pos[0]] = self.a[src[0]]
+        self.col[pos[0]] = self.col[src[0]]
+        self.value = float(self._values(self.mat[None], self.rhs[None], self.ag[None],
+                                        slice(None))[0])
+
+
+class BatchState:
+    """The same interface as :class:`MoveState` by full batched solves (sub-problems, or
+    sizes that differ by arrangement): exact, slower per move."""
+
+    def __init__(self, tables: SolvedTables, a: np.ndarray) -> None:
+        self.t = tables
+        self.a = np.asarray(a, dtype=np.int64).copy()
+        self._refresh()
+
+    def _refresh(self) -> None:
+        b = self.t.complex_fields(self.a[None])[0]
+        self.r2 = (b.real ** 2 + b.imag ** 2).sum(axis=(0, 2))
+        self.value = float(self.r2.max())
+
+    def _codes(self, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
+        out = np.repeat(self.a[None], pos.shape[0], axis=0)
+        np.put_along_axis(out, pos, self.a[src], axis=1)
+        return out
+
+    def peaks(self, n: int) -> np.ndarray:
+        return np.argpartition(self.r2, -min(n, self.r2.size))[-n:]
+
+    def screen(self, pos: np.ndarray, src: np.ndarray, points: np.ndarray) -> np.ndarray:
+        return self.t.subset(points).values(self._codes(pos, src))
+
+    def evaluate(self, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
+        return self.t.values(self._codes(pos, src))
+
+    def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
+        self.a[pos] = self.a[src]
+        self._refresh()
+
+
+def move_state(tables: SolvedTables, a: np.ndarray) -> MoveState | BatchState:
+    """The fastest exact move scorer these tables allow."""
+    if tables.model.schur and tables.expand is None:
+        return MoveState(tables, a)
+    return BatchState(tables, a)
