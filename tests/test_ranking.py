@@ -340,3 +340,20 @@ def test_top_options_with_solved_currents_equal_a_solved_brute_force(second_area
     # and with equal shares the answer is another arrangement (the sharing decides)
     equal = rank_layout(lay, top_k=1, currents="equal").options[0]
     assert solved_score(apply_option(lay, equal)) > got[0] * (1 + 1e-6)
+
+
+@pytest.mark.parametrize("area", [240.0, None])
+def test_solved_search_over_twins_equals_a_solved_brute_force(area):
+    # A mirror-symmetric row of three parallel sets: the exact search scores one member of
+    # each class of relabelled and mirrored twins (rotations always; L2/L3 twins only when
+    # no resistance breaks that symmetry), yet must find the brute force's best values.
+    base = flat_sets(3, width=600.0)
+    lay = base.with_conductors([Conductor(c.name, c.circuit, c.phase, c.x_mm, c.y_mm,
+                                          c.diameter_mm, area, "copper" if area else None)
+                                for c in base.conductors])
+    res = rank_layout(lay, top_k=4)
+    assert res.method == "exhaustive" and res.certified and res.evaluated == res.distinct
+    assert any("mirror" in n for n in res.notes)
+    want = brute_force(lay, lambda moved: stray_uT(moved, 500.0, solved_sources(moved)))
+    got = sorted({round(o.max_resultant_uT, 9) for o in res.options})
+    assert got == pytest.approx(want[:len(got)], rel=1e-9)

@@ -471,3 +471,137 @@ def move_state(tables: SolvedTables, a: np.ndarray) -> MoveState | BatchState:
     if tables.model.schur and tables.expand is None:
         return MoveState(tables, a)
     return BatchState(tables, a)
+
+
+def _solve_small(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Batched solve of (..., G, G) systems; closed forms for G ≤ 3 (Cramer's rule), which
+    numpy's batched LU is many times slower than on tiny systems."""
+    g = mat.shape[-1]
+    with np.errstate(all="ignore"):
+        if g == 1:
+            return rhs / mat[..., 0]
+        if g == 2:
+            a, b, c, d = mat[..., 0, 0], mat[..., 0, 1], mat[..., 1, 0], mat[..., 1, 1]
+            det = a * d - b * c
+            return np.stack([d * rhs[..., 0] - b * rhs[..., 1],
+                             a * rhs[..., 1] - c * rhs[..., 0]], axis=-1) / det[..., None]
+        if g == 3:
+            m = mat
+            c00 = m[..., 1, 1] * m[..., 2, 2] - m[..., 1, 2] * m[..., 2, 1]
+            c01 = m[..., 0, 2] * m[..., 2, 1] - m[..., 0, 1] * m[..., 2, 2]
+            c02 = m[..., 0, 1] * m[..., 1, 2] - m[..., 0, 2] * m[..., 1, 1]
+            c10 = m[..., 1, 2] * m[..., 2, 0] - m[..., 1, 0] * m[..., 2, 2]
+            c11 = m[..., 0, 0] * m[..., 2, 2] - m[..., 0, 2] * m[..., 2, 0]
+            c12 = m[..., 0, 2] * m[..., 1, 0] - m[..., 0, 0] * m[..., 1, 2]
+            c20 = m[..., 1, 0] * m[..., 2, 1] - m[..., 1, 1] * m[..., 2, 0]
+            c21 = m[..., 0, 1] * m[..., 2, 0] - m[..., 0, 0] * m[..., 2, 1]
+            c22 = m[..., 0, 0] * m[..., 1, 1] - m[..., 0, 1] * m[..., 1, 0]
+            det = m[..., 0, 0] * c00 + m[..., 0, 1] * c10 + m[..., 0, 2] * c20
+            r0, r1, r2 = rhs[..., 0], rhs[..., 1], rhs[..., 2]
+            return np.stack([c00 * r0 + c01 * r1 + c02 * r2, c10 * r0 + c11 * r1 + c12 * r2,
+                             c20 * r0 + c21 * r1 + c22 * r2], axis=-1) / det[..., None]
+        try:
+            return np.linalg.solve(mat, rhs[..., None])[..., 0]
+        except np.linalg.LinAlgError:
+            return np.full(rhs.shape, np.nan, dtype=complex)
+
+
+class BlockScorer:
+    """Exact values, on a few points, of every (prefix, suffix) pair of an enumeration block.
+
+    The column system splits like the arrangement: E = [E_prefix; E_suffix], so
+    Eᵀ Y E = (prefix part) + (suffix part) + the cross terms E_pᵀ Y_ps E_s, which for all
+    pairs of a block are one matrix product. Then one small solve per pair and component,
+    and the field on the points. For the exhaustive search with solved currents.
+    """
+
+    def __init__(self, tables: SolvedTables, points: np.ndarray) -> None:
+        m = tables.model
+        if not m.schur or tables.expand is not None:
+            raise ValueError("blocks are scored on a main space with a fixed Y")
+        self.t, self.m = tables, m
+        s = m.n_rows
+        gt = tables.g_rows[:, points].reshape(s, -1)  # (S, 2F)
+        self.ay = np.einsum("hst,tq->hsq", m.Y, gt)
+        self.b0 = tables.b_known[:, points].reshape(m.Y.shape[0], -1) - m.yc @ gt
+
+    def _cols(self, rows: np.ndarray, offset: np.ndarray) -> np.ndarray:
+        m = self.m
+        col = m.kind_group[rows]
+        for q in m.known_kinds:
+            mask = rows == q
+            col = np.where(mask, m.known_base[q] + offset[q] + np.cumsum(mask, axis=1) - 1,
+                           col)
+        return col
+
+    def values(self, pre: np.ndarray, suf: np.ndarray, mask: np.ndarray | None = None
+               ) -> np.ndarray:
+        """(Np, Ns) largest Σ_h |B_h|² over the points of every pair; the pairs outside
+        ``mask`` (Np, Ns) are inf."""
+        m, g = self.m, self.m.n_cols
+        j = self.t.space.n_positions
+        tp = pre.shape[1]
+        np_, ns = pre.shape[0], suf.shape[0]
+        if mask is None:
+            mask = np.ones((np_, ns), dtype=bool)
+        first = np.bincount(pre[0], minlength=len(m.kind_members))
+        col_p = np.concatenate([self._cols(pre, np.zeros_like(first)),
+                                np.broadcast_to(m.ff_col, (np_, m.ff_col.size))], axis=1)
+        col_s = self._cols(suf, first)
+        rows_p = np.concatenate([np.arange(tp), np.arange(j, m.n_rows)])
+        rows_s = np.arange(tp, j)
+        ep = np.zeros((np_, rows_p.size, g))
+        np.put_along_axis(ep, col_p[:, :, None], 1.0, axis=2)
+        es = np.zeros((ns, rows_s.size, g))
+        np.put_along_axis(es, col_s[:, :, None], 1.0, axis=2)
+        ept, est = np.swapaxes(ep, 1, 2), np.swapaxes(es, 1, 2)
+        es_flat = es.transpose(1, 0, 2).reshape(rows_s.size, ns * g)
+        r2 = np.zeros((np_, ns, self.b0.shape[1] // 2))
+        for k in range(m.Y.shape[0]):
+            y = m.Y[k]
+            ypp, yps, yss = y[np.ix_(rows_p, rows_p)], y[np.ix_(rows_p, rows_s)], \
+                y[np.ix_(rows_s, rows_s)]
+            mpp = ept @ (ypp @ ep)  # (Np, G, G)
+            mss = est @ (yss @ es)  # (Ns, G, G)
+            w = (ept @ yps).reshape(np_ * g, rows_s.size)
+            cross = (w @ es_flat).reshape(np_, g, ns, g).transpose(0, 2, 1, 3)
+            mat = cross + np.swapaxes(cross, -1, -2)
+            mat += mpp[:, None]
+            mat += mss[None]
+            rhs = (m.col_total[k] + (ept @ m.yc[k][rows_p]))[:, None, :] + \
+                (est @ m.yc[k][rows_s])[None]
+            u = _solve_symmetric(mat, rhs) if g <= 3 else _solve_small(mat, rhs)
+            ap = ept @ self.ay[k][rows_p]  # (Np, G, 2F)
+            as_ = est @ self.ay[k][rows_s]  # (Ns, G, 2F)
+            b = u @ ap
+            b += np.swapaxes(np.swapaxes(u, 0, 1) @ as_, 0, 1)
+            b += self.b0[k]
+            bv = b.view(np.float64).reshape(np_, ns, -1, 4)  # per point: Re, Im of x and y
+            r2 += np.einsum("abpi,abpi->abp", bv, bv)
+        out = r2.max(axis=-1) if r2.shape[-1] else np.zeros((np_, ns))
+        return np.where(np.isfinite(out) & mask, out, np.inf)
+
+
+def _solve_symmetric(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Cramer's rule for batched symmetric systems (..., G, G), G ≤ 3 (upper entries)."""
+    g = mat.shape[-1]
+    r = [rhs[..., i] for i in range(g)]
+    with np.errstate(all="ignore"):
+        if g == 1:
+            return (r[0] / mat[..., 0, 0])[..., None]
+        if g == 2:
+            a, b, d = mat[..., 0, 0], mat[..., 0, 1], mat[..., 1, 1]
+            inv = 1.0 / (a * d - b * b)
+            return np.stack([(d * r[0] - b * r[1]) * inv, (a * r[1] - b * r[0]) * inv], -1)
+        m00, m01, m02 = mat[..., 0, 0], mat[..., 0, 1], mat[..., 0, 2]
+        m11, m12, m22 = mat[..., 1, 1], mat[..., 1, 2], mat[..., 2, 2]
+        c00 = m11 * m22 - m12 * m12
+        c01 = m02 * m12 - m01 * m22
+        c02 = m01 * m12 - m02 * m11
+        c11 = m00 * m22 - m02 * m02
+        c12 = m01 * m02 - m00 * m12
+        c22 = m00 * m11 - m01 * m01
+        inv = 1.0 / (m00 * c00 + m01 * c01 + m02 * c02)
+        return np.stack([(c00 * r[0] + c01 * r[1] + c02 * r[2]) * inv,
+                         (c01 * r[0] + c11 * r[1] + c12 * r[2]) * inv,
+                         (c02 * r[0] + c12 * r[1] + c22 * r[2]) * inv], axis=-1)
