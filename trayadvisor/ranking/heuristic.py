@@ -69,7 +69,7 @@ def _block_space(layout: Layout, space: Space, tables: Tables, identity: bool
         out[:, to_main] = codes
         return out
 
-    return blk, tables.reduced(tables.V[to_main], expand), expand
+    return blk, tables.reduced(tables.V[to_main], expand, blk), expand
 
 
 def _compose(inner: Problem, outer: Callable[[np.ndarray], np.ndarray]) -> Problem:
@@ -110,7 +110,11 @@ def run_heuristic(layout: Layout, space: Space, tables: Tables, pool: Pool, *, s
     problems = _problems(layout, space, tables, identity)
     now = time.perf_counter()
     span = None if deadline is None else max(0.0, deadline - now)
+    # Relabelling kinds maps a restricted arrangement onto another one: the sub-problems
+    # keep the main space's relabelling symmetries (an exact search then scores one twin).
+    kmaps = [(None, k) for p, k in space.symmetries if p is None and k is not None]
     for n, (sub, red, expand) in enumerate(problems):
+        sub.symmetries = list(kmaps)
         sub_pool = Pool(_SEED_POOL, sub.n_positions)
         end = None if span is None else now + _SEED_SHARE * span * (n + 1) / len(problems)
         if sub.distinct() <= SEED_EXHAUSTIVE:

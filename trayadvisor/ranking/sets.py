@@ -157,7 +157,7 @@ def paired_subproblem(space: Space, tables: Tables,
         return out
 
     red = tables.reduced(np.where(own[:, None, None, None], tables.V[rep],
-                                  tables.V[rep] + tables.V[img]), expand)
+                                  tables.V[rep] + tables.V[img]), expand, sub)
     return sub, red, expand
 
 

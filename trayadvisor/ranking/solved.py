@@ -100,23 +100,8 @@ def _model(space: Space, layout: Layout, temperature_c: float) -> _Model:
         if len(gs) > 1:
             raise ValueError(f"kind {kind.label} mixes parallel and single conductors")
         kind_group[q] = gs.pop() if gs else -1
-    g_par = plan.starts.size
     known_kinds = np.nonzero(kind_group < 0)[0]
-    counts = np.zeros(k, dtype=int)  # how many positions hold each kind (any arrangement)
-    a = space.reference()
-    np.add.at(counts, a, 1)
-    known_base = np.full(k, -1, dtype=int)
-    col = g_par
-    for q in known_kinds:
-        known_base[q] = col
-        col += int(counts[q])
-    n_cols = col
-    h = plan.orders.size
-    col_total = np.zeros((h, n_cols), dtype=complex)
-    col_total[:, :g_par] = plan.totals
-    for q in known_kinds:
-        cur = space.kinds[q].currents if not space.kinds[q].empty else np.zeros(h)
-        col_total[:, known_base[q]:known_base[q] + counts[q]] = np.asarray(cur)[:, None]
+    known_base, n_cols, col_total = _known_columns(space, plan, kind_group)
     ff_col = np.array([group_of[int(i)] for i in fixed_free], dtype=int)
     j = space.n_positions
     xy_rows = np.concatenate([space.positions_mm * MM, src.xy_m[fixed_free]]).reshape(-1, 2)
@@ -126,6 +111,42 @@ def _model(space: Space, layout: Layout, temperature_c: float) -> _Model:
                    radius_rows, tuple(kd.members for kd in space.kinds))
     _impedance(model, space)
     return model
+
+
+def _known_columns(space: Space, plan: SharingPlan, kind_group: np.ndarray
+                   ) -> tuple[np.ndarray, int, np.ndarray]:
+    """The columns: one per parallel group, then one per place holding a known current
+    (each kind's places in order); returns (first column of each known kind, count,
+    totals (H, G))."""
+    k = space.n_kinds
+    counts = np.bincount(space.reference(), minlength=k)  # places of each kind, any code
+    known_base = np.full(k, -1, dtype=int)
+    col = plan.starts.size
+    for q in np.nonzero(kind_group < 0)[0]:
+        known_base[q] = col
+        col += int(counts[q])
+    h = plan.orders.size
+    col_total = np.zeros((h, col), dtype=complex)
+    col_total[:, :plan.starts.size] = plan.totals
+    for q in np.nonzero(kind_group < 0)[0]:
+        cur = space.kinds[q].currents if not space.kinds[q].empty else np.zeros(h)
+        col_total[:, known_base[q]:known_base[q] + counts[q]] = np.asarray(cur)[:, None]
+    return known_base, col, col_total
+
+
+def _aggregable(m: _Model, sub: Space, owner: np.ndarray) -> bool:
+    """Whether every position of ``sub`` that stands for several places can only hold
+    conductors of parallel groups (their places then share one column)."""
+    many = np.bincount(owner, minlength=sub.n_positions) > 1
+    if not many.any():
+        return True
+    known = m.kind_group < 0
+    dk = np.array([kd.diameter_mm for kd in sub.kinds])
+    for r in np.nonzero(many)[0]:
+        fits = np.abs(dk - sub.diameters_mm[r]) <= TOL_MM
+        if np.any(fits & known):
+            return False
+    return True
 
 
 def _impedance(m: _Model, space: Space) -> None:
@@ -208,20 +229,59 @@ class SolvedTables(Tables):
         src = m.plan.sources
         g_k = unit_field(src.xy_m[m.fixed_known], src.radius_m[m.fixed_known], pts)
         self.b_known = np.einsum("hk,kpc->hpc", src.currents[:, m.fixed_known], g_k)
+        if m.schur:  # B = Σ_g U_g (Eᵀ ay)_g + b0 (module notes)
+            self.ay = np.einsum("hst,tpc->hspc", m.Y, self.g_rows, optimize=True)
+            self.b0 = self.b_known - np.einsum("hs,spc->hpc", m.yc, self.g_rows)
 
     # -- derived tables ----------------------------------------------------------------------
     def subset(self, idx: np.ndarray) -> SolvedTables:
         t = self._copy(self.V[:, :, idx], self.F[idx], self.expand)
-        t._points(self.pts_m[idx])
+        t.pts_m = self.pts_m[idx]
+        t.g_rows = None if self.g_rows is None else np.ascontiguousarray(self.g_rows[:, idx])
+        t.b_known = np.ascontiguousarray(self.b_known[:, idx])
+        if self.model.schur:
+            t.ay = np.ascontiguousarray(self.ay[:, :, idx])
+            t.b0 = np.ascontiguousarray(self.b0[:, idx])
         return t
 
-    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray]
-                ) -> SolvedTables:
-        """The tables of a restricted sub-problem: screening tables ``v`` over its
-        positions, exact scores through ``expand`` (sub-problem codes → this space)."""
+    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray],
+                sub: Space) -> SolvedTables:
+        """The tables of a restricted sub-problem ``sub``: screening tables ``v`` over its
+        positions, exact scores of its codes (``expand`` maps them to this space).
+
+        A position of ``sub`` stands for one or two places that hold the same kind. When
+        those places can only hold parallel conductors, both join the same column, so the
+        sub-problem is a column system of its own with Y summed over its places (Pᵀ Y P):
+        moves and blocks are scored as fast as on a main space. Otherwise its codes are
+        expanded and solved in full.
+        """
+        owner = np.asarray(expand(np.arange(sub.n_positions)[None]))[0]
+        m = self.model
+        if m.schur and self.expand is None and _aggregable(m, sub, owner):
+            return self._aggregated(v, sub, owner)
         outer = self.expand
         t = self._copy(v, self.F, expand if outer is None else (lambda c: outer(expand(c))))
         t.pts_m, t.g_rows, t.b_known = self.pts_m, self.g_rows, self.b_known
+        if self.model.schur:
+            t.ay, t.b0 = self.ay, self.b0
+        return t
+
+    def _aggregated(self, v: np.ndarray, sub: Space, owner: np.ndarray) -> SolvedTables:
+        m = self.model
+        j = self.space.n_positions
+        n_ff = m.n_rows - j
+        agg = np.zeros((m.n_rows, sub.n_positions + n_ff))
+        agg[np.arange(j), owner] = 1.0
+        agg[j + np.arange(n_ff), sub.n_positions + np.arange(n_ff)] = 1.0
+        known_base, n_cols, col_total = _known_columns(sub, m.plan, m.kind_group)
+        red = _Model(m.plan, agg.shape[1], m.fixed_free, m.fixed_known, m.kind_group,
+                     m.known_kinds, known_base, n_cols, col_total, m.ff_col, True,
+                     np.einsum("sr,hst,tq->hrq", agg, m.Y, agg), m.yc @ agg,
+                     m.xy_rows, m.radius_rows, m.kind_members)
+        t = self._copy(v, self.F, None)
+        t.model, t.space = red, sub
+        t.pts_m, t.b_known, t.g_rows = self.pts_m, self.b_known, None  # schur only
+        t.ay, t.b0 = np.einsum("sr,hspc->hrpc", agg, self.ay), self.b0
         return t
 
     def _copy(self, v: np.ndarray, f: np.ndarray,
@@ -232,14 +292,6 @@ class SolvedTables(Tables):
         return t
 
     # -- scoring ---------------------------------------------------------------------------
-    def row_currents(self, codes: np.ndarray) -> np.ndarray:
-        """(N, H, S) solved currents of the rows (movable positions, then the fixed parallel
-        conductors) for full-space ``codes`` (N, J)."""
-        m = self.model
-        codes = np.asarray(codes, dtype=np.int64).reshape(-1, self.space.n_positions)
-        if m.schur:
-            return _schur_currents(m, self.columns(codes))
-        return _full_currents(m, self.space, codes)
 
     def columns(self, codes: np.ndarray) -> np.ndarray:
         """(N, S) column of every row (see the module notes)."""
@@ -257,12 +309,16 @@ class SolvedTables(Tables):
         if self.expand is not None:
             codes = self.expand(codes)
         codes = codes.reshape(-1, self.space.n_positions)
-        out = np.empty((codes.shape[0], self.b_known.shape[0], *self.g_rows.shape[1:]),
-                       dtype=complex)
+        out = np.empty((codes.shape[0], *self.b_known.shape), dtype=complex)
         for s in range(0, codes.shape[0], _CHUNK):
-            cur = self.row_currents(codes[s:s + _CHUNK])  # (n, H, S)
-            out[s:s + _CHUNK] = np.einsum("nhs,spc->nhpc", cur, self.g_rows,
-                                          optimize=True) + self.b_known[None]
+            part = codes[s:s + _CHUNK]
+            if self.model.schur:
+                out[s:s + _CHUNK] = _schur_fields(self.model, self.columns(part), self.ay,
+                                                  self.b0)
+            else:
+                cur = _full_currents(self.model, self.space, part)  # (n, H, S)
+                out[s:s + _CHUNK] = np.einsum("nhs,spc->nhpc", cur, self.g_rows,
+                                              optimize=True) + self.b_known[None]
         return out
 
     def fields(self, codes: np.ndarray) -> np.ndarray:
@@ -287,23 +343,23 @@ class SolvedTables(Tables):
         return keep[ok], v[ok]
 
 
-def _schur_currents(m: _Model, col: np.ndarray) -> np.ndarray:
-    """(N, H, S) currents from the columns (N, S) with the precomputed Y."""
+def _schur_fields(m: _Model, col: np.ndarray, ay: np.ndarray, b0: np.ndarray
+                  ) -> np.ndarray:
+    """(N, H, P, 2) field from the columns (N, S): U from the column system, then
+    B = Σ_g U_g (Eᵀ ay)_g + b0."""
     n, s = col.shape
     e = np.zeros((n, s, m.n_cols))
     np.put_along_axis(e, col[:, :, None], 1.0, axis=2)
     et = np.swapaxes(e, 1, 2)
-    out = np.empty((n, m.Y.shape[0], s), dtype=complex)
-    for k in range(m.Y.shape[0]):
-        p = m.Y[k] @ e  # (N, S, G)
-        mat = et @ p  # (N, G, G)
+    h = m.Y.shape[0]
+    out = np.empty((n, h, *b0.shape[1:]), dtype=complex)
+    for k in range(h):
+        mat = et @ (m.Y[k] @ e)  # (N, G, G)
         rhs = m.col_total[k][None, :] + et @ m.yc[k]
-        with np.errstate(all="ignore"):
-            try:
-                u = np.linalg.solve(mat, rhs[..., None])[..., 0]
-            except np.linalg.LinAlgError:
-                u = np.full(rhs.shape, np.nan, dtype=complex)
-        out[:, k] = (p @ u[..., None])[..., 0] - m.yc[k][None, :]
+        u = _solve_small(mat, rhs)
+        ag = et @ ay[k].reshape(s, -1)  # (N, G, 2P)
+        out[:, k] = (np.einsum("ng,ngq->nq", u, ag) + b0[k].reshape(1, -1)).reshape(
+            n, *b0.shape[1:])
     if not np.all(np.isfinite(out)):
         raise SharingError("the current sharing of some arrangement has no solution")
     return out
@@ -352,9 +408,9 @@ class MoveState:
         self.a = np.asarray(a, dtype=np.int64).copy()
         self.col = tables.columns(self.a[None])[0]
         s, g = m.n_rows, m.n_cols
-        gt = tables.g_rows.reshape(s, -1)  # (S, 2P) real
-        self.ay = np.einsum("hst,tq->hsq", m.Y, gt)  # (H, S, 2P)
-        self.b0 = tables.b_known.reshape(m.Y.shape[0], -1) - m.yc @ gt  # (H, 2P)
+        h = m.Y.shape[0]
+        self.ay = tables.ay.reshape(h, s, -1)  # (H, S, 2P)
+        self.b0 = tables.b0.reshape(h, -1)  # (H, 2P)
         e = np.zeros((s, g))
         e[np.arange(s), self.col] = 1.0
         self.p = m.Y @ e  # (H, S, G)
@@ -413,13 +469,43 @@ class MoveState:
     def screen(self, pos: np.ndarray, src: np.ndarray, points: np.ndarray) -> np.ndarray:
         """Exact value of each move on ``points`` only: a lower bound of its value."""
         q = self._q(points)
+        if _is_swap(pos, src):
+            return self._swap_values(pos, q)
         mat, rhs, ag, _ = self._moved(pos, src, q)
         return self._values(mat, rhs, ag, q)
 
     def evaluate(self, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
         """Exact value of each move on every point."""
+        if _is_swap(pos, src):
+            return self._swap_values(pos, slice(None))
         mat, rhs, ag, _ = self._moved(pos, src, slice(None))
         return self._values(mat, rhs, ag, slice(None))
+
+    def _swap_values(self, pos: np.ndarray, q: slice | np.ndarray) -> np.ndarray:
+        """Swaps of two rows: E changes by one outer product x yᵀ (x = e_i − e_j, y = the
+        two columns' difference), so M' = M + y dᵀ + d yᵀ + α y yᵀ with d = (P_i − P_j)
+        and α = Y_ii + Y_jj − 2 Y_ij, and every column table moves by y (ay_i − ay_j)."""
+        m = self.m
+        i, j = pos[:, 0], pos[:, 1]
+        g = m.n_cols
+        y = np.zeros((pos.shape[0], g))
+        y[np.arange(pos.shape[0]), self.col[j]] += 1.0
+        y[np.arange(pos.shape[0]), self.col[i]] -= 1.0
+        dp = self.p[:, i] - self.p[:, j]  # (H, N, G)
+        alpha = m.Y[:, i, i] + m.Y[:, j, j] - 2.0 * m.Y[:, i, j]  # (H, N)
+        outer = y[None, :, :, None] * dp[:, :, None, :]
+        mat = self.mat[:, None] + outer + np.swapaxes(outer, -1, -2) + \
+            alpha[..., None, None] * (y[:, :, None] * y[:, None, :])[None]
+        rhs = self.rhs[:, None] + y[None] * (m.yc[:, i] - m.yc[:, j])[..., None]
+        u = _solve_symmetric(mat, rhs) if g <= 3 else _solve_small(mat, rhs)  # (H, N, G)
+        ag = self.ag[..., q]  # (H, G, 2Q)
+        dag = self.ay[:, i][..., q] - self.ay[:, j][..., q]  # (H, N, 2Q)
+        b = np.einsum("hng,hgq->hnq", u, ag) + (u * y[None]).sum(axis=-1)[..., None] * dag
+        b += self.b0[:, None][..., q]
+        bv = np.ascontiguousarray(b).view(np.float64)
+        r2 = np.einsum("hnq,hnq->nq", bv, bv)  # Σ_h over Re and Im parts
+        out = r2.reshape(r2.shape[0], -1, 4).sum(axis=-1).max(axis=1)
+        return np.where(np.isfinite(out), out, np.inf)
 
     def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
         """Make one move (``pos``, ``src``: the rows of one move)."""
@@ -464,6 +550,10 @@ class BatchState:
     def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
         self.a[pos] = self.a[src]
         self._refresh()
+
+
+def _is_swap(pos: np.ndarray, src: np.ndarray) -> bool:
+    return pos.shape[1] == 2 and bool(np.array_equal(src, pos[:, ::-1]))
 
 
 def move_state(tables: SolvedTables, a: np.ndarray) -> MoveState | BatchState:
@@ -520,10 +610,9 @@ class BlockScorer:
         if not m.schur or tables.expand is not None:
             raise ValueError("blocks are scored on a main space with a fixed Y")
         self.t, self.m = tables, m
-        s = m.n_rows
-        gt = tables.g_rows[:, points].reshape(s, -1)  # (S, 2F)
-        self.ay = np.einsum("hst,tq->hsq", m.Y, gt)
-        self.b0 = tables.b_known[:, points].reshape(m.Y.shape[0], -1) - m.yc @ gt
+        s, h = m.n_rows, m.Y.shape[0]
+        self.ay = tables.ay[:, :, points].reshape(h, s, -1)  # (H, S, 2F)
+        self.b0 = tables.b0[:, points].reshape(h, -1)
 
     def _cols(self, rows: np.ndarray, offset: np.ndarray) -> np.ndarray:
         m = self.m

@@ -95,7 +95,7 @@ def mirror_subproblem(space: Space, tables: Tables
         return out
 
     red = tables.reduced(np.where(own[:, None, None, None], tables.V[rep],
-                                  tables.V[rep] + tables.V[partner]), expand)
+                                  tables.V[rep] + tables.V[partner]), expand, sub)
     return sub, red, expand
 
 

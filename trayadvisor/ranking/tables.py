@@ -90,7 +90,8 @@ class Tables:
         t._stage = None
         return t
 
-    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray]) -> Tables:
+    def reduced(self, v: np.ndarray, expand: Callable[[np.ndarray], np.ndarray],
+                sub: Space) -> Tables:
         """The tables of a restricted sub-problem whose per-position tables are ``v``
         (``expand`` maps its codes to this space; sums of tables need no expansion)."""
         t = object.__new__(Tables)
