@@ -274,22 +274,53 @@ def test_solved_tables_equal_the_sharing_solve_of_each_arrangement(second_area):
         assert v == pytest.approx(float((resultant_rms(b) ** 2).max()), rel=1e-10)
 
 
-def test_incremental_solved_moves_match_a_fresh_solve():
+def parallel_row(kind: str, n_sets: int, area: float = 240.0) -> Layout:
+    """One circuit of ``n_sets`` parallel sets of alike copper conductors in one row."""
+    phases = {"ac1": ("L", "N"), "ac3": ("L1", "L2", "L3")}[kind]
+    cons = tuple(Conductor(f"{ph}-{k}", "F", ph, 40.0 + 32.0 * (k * len(phases) + i), 16.0,
+                           30.0, area, "copper")
+                 for k in range(n_sets) for i, ph in enumerate(phases))
+    return Layout(title="row", trays=(Tray("T", 0, 0, 600, 80),), conductors=cons,
+                  circuits=(Circuit("F", kind, 200.0 * n_sets),))
+
+
+def _state_setup(case: str):
+    if case == "shared_row":  # 3 groups + 2 known-current columns, two harmonics
+        return solved_setup()
+    lay = parallel_row(*{"ac1 x3": ("ac1", 3), "ac3 x3": ("ac3", 3)}[case])
+    src = layout_sources(lay)
+    obj = make_objective(lay, 500.0, None, src)
+    space = build_space(lay, identity=True)
+    return lay, obj, space, SolvedTables(space, src, obj.search_m, lay, 70.0)
+
+
+@pytest.mark.parametrize("case, columns", [("ac1 x3", 2), ("ac3 x3", 3), ("shared_row", 5)])
+def test_incremental_solved_moves_match_a_fresh_solve(case, columns):
     # A move changes a few rows of the column incidence; the rank-update of the column
-    # system must give what a fresh solve of the new arrangement gives.
-    lay, _, space, tables = solved_setup()
+    # system must give what a fresh solve of the new arrangement gives — for each size of
+    # the column system (closed forms for 2 and 3 columns, LU beyond).
+    lay, _, space, tables = _state_setup(case)
+    assert tables.model.n_cols == columns
     a = space.reference()
     state = MoveState(tables, a)
     rng = np.random.default_rng(3)
     (s, e, _), = space.free_cells
-    for _ in range(12):
-        i, j = rng.choice(np.arange(s, e), 2, replace=False)
-        pos, src = np.array([[i, j]]), np.array([[j, i]])
+    for step in range(12):
+        if step % 3 == 2:  # a 3-cycle: not a swap, takes the general update
+            pos = rng.choice(np.arange(s, e), 3, replace=False)[None]
+            src = np.roll(pos, 1, axis=1)
+        else:
+            pos = rng.choice(np.arange(s, e), 2, replace=False)[None]
+            src = pos[:, ::-1]
+        fresh = a.copy()
+        fresh[pos[0]] = a[src[0]]
         predicted = state.evaluate(pos, src)[0]
         screened = state.screen(pos, src, state.peaks(5))[0]
         assert screened <= predicted * (1 + 1e-12)  # a subset of points: a lower bound
         state.apply(pos[0], src[0])
-        assert predicted == pytest.approx(tables.values(state.a[None])[0], rel=1e-10)
+        a = fresh
+        assert np.array_equal(state.a, a)
+        assert predicted == pytest.approx(tables.values(a[None])[0], rel=1e-10)
         assert state.value == pytest.approx(predicted, rel=1e-12)
 
 

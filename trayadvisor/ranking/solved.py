@@ -413,6 +413,9 @@ class MoveState:
         self.b0 = tables.b0.reshape(h, -1)  # (H, 2P)
         e = np.zeros((s, g))
         e[np.arange(s), self.col] = 1.0
+        self.onehot = e  # (S, G): row r's column
+        self.ydiag = np.diagonal(m.Y, axis1=1, axis2=2)  # (H, S)
+        self.upper = np.triu_indices(g)
         self.p = m.Y @ e  # (H, S, G)
         self.mat = e.T @ self.p  # (H, G, G)
         self.rhs = m.col_total + m.yc @ e  # (H, G)
@@ -458,7 +461,7 @@ class MoveState:
         quad = np.einsum("nrg,hnrs,nsk->hngk", d, yrr, d)
         mat = self.mat[:, None] + cross + np.swapaxes(cross, -1, -2) + quad
         rhs = self.rhs[:, None] + np.einsum("nrg,hnr->hng", d, m.yc[:, pos])
-        ag = self.ag[:, None][..., q] + np.einsum("nrg,hnrq->hngq", d, self.ay[:, pos][..., q])
+        ag = self.ag[:, None][..., q] + np.einsum("nrg,hnrq->hngq", d, self.ay[..., q][:, pos])
         return (np.moveaxis(mat, 1, 0), np.moveaxis(rhs, 1, 0), np.moveaxis(ag, 1, 0), d)
 
     def _q(self, points: np.ndarray | None) -> slice | np.ndarray:
@@ -484,28 +487,28 @@ class MoveState:
     def _swap_values(self, pos: np.ndarray, q: slice | np.ndarray) -> np.ndarray:
         """Swaps of two rows: E changes by one outer product x yᵀ (x = e_i − e_j, y = the
         two columns' difference), so M' = M + y dᵀ + d yᵀ + α y yᵀ with d = (P_i − P_j)
-        and α = Y_ii + Y_jj − 2 Y_ij, and every column table moves by y (ay_i − ay_j)."""
+        and α = Y_ii + Y_jj − 2 Y_ij, and every column table moves by y (ay_i − ay_j).
+        M' is symmetric: only its upper entries are formed (packed, last axis)."""
         m = self.m
         i, j = pos[:, 0], pos[:, 1]
         g = m.n_cols
-        y = np.zeros((pos.shape[0], g))
-        y[np.arange(pos.shape[0]), self.col[j]] += 1.0
-        y[np.arange(pos.shape[0]), self.col[i]] -= 1.0
+        e = self.onehot
+        y = e[j] - e[i]  # (N, G)
         dp = self.p[:, i] - self.p[:, j]  # (H, N, G)
-        alpha = m.Y[:, i, i] + m.Y[:, j, j] - 2.0 * m.Y[:, i, j]  # (H, N)
-        outer = y[None, :, :, None] * dp[:, :, None, :]
-        mat = self.mat[:, None] + outer + np.swapaxes(outer, -1, -2) + \
-            alpha[..., None, None] * (y[:, :, None] * y[:, None, :])[None]
+        alpha = self.ydiag[:, i] + self.ydiag[:, j] - 2.0 * m.Y[:, i, j]  # (H, N)
+        ia, ib = self.upper
+        ya, yb = y[:, ia], y[:, ib]
+        mat = dp[..., ia] * yb
+        mat += dp[..., ib] * ya
+        mat += alpha[..., None] * (ya * yb)
+        mat += self.mat[:, ia, ib][:, None]
         rhs = self.rhs[:, None] + y[None] * (m.yc[:, i] - m.yc[:, j])[..., None]
-        u = _solve_symmetric(mat, rhs) if g <= 3 else _solve_small(mat, rhs)  # (H, N, G)
-        ag = self.ag[..., q]  # (H, G, 2Q)
-        dag = self.ay[:, i][..., q] - self.ay[:, j][..., q]  # (H, N, 2Q)
-        b = np.einsum("hng,hgq->hnq", u, ag) + (u * y[None]).sum(axis=-1)[..., None] * dag
+        u = _solve_packed(mat, rhs, g)  # (H, N, G)
+        ayq = self.ay[..., q]  # (H, S, 2Q): select the points before gathering rows
+        b = np.matmul(u, self.ag[..., q])
+        b += np.einsum("hng,ng->hn", u, y)[..., None] * (ayq[:, i] - ayq[:, j])
         b += self.b0[:, None][..., q]
-        bv = np.ascontiguousarray(b).view(np.float64)
-        r2 = np.einsum("hnq,hnq->nq", bv, bv)  # Σ_h over Re and Im parts
-        out = r2.reshape(r2.shape[0], -1, 4).sum(axis=-1).max(axis=1)
-        return np.where(np.isfinite(out), out, np.inf)
+        return _peak_r2(b)
 
     def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
         """Make one move (``pos``, ``src``: the rows of one move)."""
@@ -515,6 +518,7 @@ class MoveState:
         self.p = self.p + np.einsum("hsr,rg->hsg", self.m.Y[:, :, pos[0]], d[0])
         self.a[pos[0]] = self.a[src[0]]
         self.col[pos[0]] = self.col[src[0]]
+        self.onehot[pos[0]] = self.onehot[src[0]]
         self.value = float(self._values(self.mat[None], self.rhs[None], self.ag[None],
                                         slice(None))[0])
 
@@ -669,6 +673,48 @@ class BlockScorer:
             r2 += np.einsum("abpi,abpi->abp", bv, bv)
         out = r2.max(axis=-1) if r2.shape[-1] else np.zeros((np_, ns))
         return np.where(np.isfinite(out) & mask, out, np.inf)
+
+
+def _peak_r2(b: np.ndarray) -> np.ndarray:
+    """max over points of Σ_h |B_h|² from fields (H, N, 2Q) stored as (x, y) per point."""
+    sq = b.view(np.float64) ** 2  # (H, N, 4Q): Re and Im of x and y per point
+    s = sq[0]
+    for k in range(1, sq.shape[0]):
+        s += sq[k]
+    s = s.reshape(s.shape[0], -1, 4)
+    # Explicit sums: numpy reduces a length-4 last axis several times slower.
+    out = (s[..., 0] + s[..., 1] + s[..., 2] + s[..., 3]).max(axis=1)
+    return np.where(np.isfinite(out), out, np.inf)
+
+
+def _solve_packed(mat: np.ndarray, rhs: np.ndarray, g: int) -> np.ndarray:
+    """Batched solve of symmetric systems given by their upper entries (..., G(G+1)/2) in
+    :func:`numpy.triu_indices` order: Cramer's rule for G ≤ 3, else LU."""
+    with np.errstate(all="ignore"):
+        r = [rhs[..., k] for k in range(g)]
+        if g == 1:
+            return (r[0] / mat[..., 0])[..., None]
+        if g == 2:
+            a, b, d = mat[..., 0], mat[..., 1], mat[..., 2]
+            inv = 1.0 / (a * d - b * b)
+            return np.stack([(d * r[0] - b * r[1]) * inv, (a * r[1] - b * r[0]) * inv], -1)
+        if g == 3:
+            m00, m01, m02, m11, m12, m22 = (mat[..., k] for k in range(6))
+            c00 = m11 * m22 - m12 * m12
+            c01 = m02 * m12 - m01 * m22
+            c02 = m01 * m12 - m02 * m11
+            c11 = m00 * m22 - m02 * m02
+            c12 = m01 * m02 - m00 * m12
+            c22 = m00 * m11 - m01 * m01
+            inv = 1.0 / (m00 * c00 + m01 * c01 + m02 * c02)
+            return np.stack([(c00 * r[0] + c01 * r[1] + c02 * r[2]) * inv,
+                             (c01 * r[0] + c11 * r[1] + c12 * r[2]) * inv,
+                             (c02 * r[0] + c12 * r[1] + c22 * r[2]) * inv], axis=-1)
+    full = np.empty((*mat.shape[:-1], g, g), dtype=mat.dtype)
+    ia, ib = np.triu_indices(g)
+    full[..., ia, ib] = mat
+    full[..., ib, ia] = mat
+    return _solve_small(full, rhs)
 
 
 def _solve_symmetric(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
