@@ -183,3 +183,35 @@ def test_envelope_without_a_tray_is_around_the_outer_circles(capsys):
     assert data["max_resultant_uT"] == pytest.approx(want_uT, rel=1e-9)
     assert abs(data["max_at_mm"][0]) < 1e-3 and abs(data["max_at_mm"][1]) == pytest.approx(
         h * 1e3, abs=1e-6)
+
+
+def test_conductor_temperature_reaches_field_and_rank(capsys):
+    # R' rises with temperature (IEC 60287-1-1), so the solved sharing and the field change;
+    # the figures are the core calls with that temperature.
+    layout = read_layout(DEMO)
+    code, out, _ = run_cli(capsys, "field", str(DEMO), "--temperature-c", "20", "--json")
+    cold = json.loads(out)
+    assert code == 0 and cold["temperature_c"] == 20.0
+    assert cold["max_resultant_uT"] == field_summary(
+        layout, temperature_c=20.0).max_resultant_uT
+    assert cold["max_resultant_uT"] != pytest.approx(
+        field_summary(layout).max_resultant_uT, rel=1e-6)
+    assert any("20 °C" in n for n in cold["notes"])
+    code, out, _ = run_cli(capsys, "field", str(DEMO), "--equal-shares", "--json")
+    assert json.loads(out)["temperature_c"] is None  # no resistance enters equal shares
+    code, out, _ = run_cli(capsys, "rank", str(DEMO), "--temperature-c", "20", "--top", "1",
+                           "--json")
+    assert code == 0
+    assert json.loads(out)["baseline_uT"] == pytest.approx(cold["max_resultant_uT"],
+                                                           rel=1e-9)
+
+
+@pytest.mark.parametrize("command", ["field", "rank", "couple", "report"])
+@pytest.mark.parametrize("value", ["900", "nan"])
+def test_conductor_temperature_outside_the_range_is_one_clean_error(capsys, tmp_path,
+                                                                   command, value):
+    extra = ["--out", str(tmp_path / "r.html")] if command == "report" else []
+    code, out, err = run_cli(capsys, command, str(DEMO), "--temperature-c", value, *extra)
+    assert code == 2 and out == "" and len(err.strip().splitlines()) == 1
+    assert f"--temperature-c {float(value)}" in err and "-50 to 250 °C" in err
+    assert not (tmp_path / "r.html").exists()

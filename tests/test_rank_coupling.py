@@ -51,6 +51,25 @@ def test_every_option_lists_imbalance_and_victim_emf(capsys):
         assert opt["figures"]["induced_mV_per_m"] == pytest.approx(worst_emf, rel=1e-9)
 
 
+def test_option_figures_use_the_conductor_temperature_of_the_scores(capsys):
+    # R' at 20 °C is about 0.78 of R' at 90 °C (IEC 60287-1-1, α20 of copper), so the
+    # sharing changes; every figure of an option must use the temperature the field used.
+    lay = read_layout(DEMO)
+    data = rank_json(capsys, str(DEMO), "--top", "2", "--temperature-c", "20")
+    for opt in data["options"]:
+        moved = applied(lay, opt)
+        cs = coupling_summary(moved, temperature_c=20.0).to_json()
+        hot = coupling_summary(moved).to_json()
+        worst = max(g["imbalance_pct"] for g in cs["groups"])
+        assert worst != pytest.approx(max(g["imbalance_pct"] for g in hot["groups"]),
+                                      rel=1e-6)
+        assert opt["figures"]["imbalance_pct"] == pytest.approx(worst, rel=1e-9)
+        assert opt["figures"]["induced_mV_per_m"] == pytest.approx(
+            max(v["induced_mV_per_m"] for v in cs["victims"]), rel=1e-9)
+        assert opt["max_resultant_uT"] == pytest.approx(
+            field_summary(moved, temperature_c=20.0).max_resultant_uT, rel=1e-6)
+
+
 def test_imbalance_limit_excludes_options(capsys):
     # In the demo the lowest-field arrangement of the two parallel F1 sets shares current
     # poorly (its figure is checked above against coupling_summary), so a 10 % limit must
@@ -90,3 +109,19 @@ def test_bad_constraint_values_are_clean_errors(capsys, flag):
     assert main(["rank", str(DEMO), flag, "-3"]) == 2
     out, err = capsys.readouterr()
     assert out == "" and len(err.strip().splitlines()) == 1 and flag in err
+
+
+def test_rank_says_what_the_solved_currents_rest_on(capsys, tmp_path):
+    # A parallel group without conductor areas is solved reactance-only: flagged in every
+    # output that uses it (here rank's notes, text and JSON); with areas, the R' source.
+    text = DEMO.read_text(encoding="utf-8")
+    data = rank_json(capsys, str(DEMO), "--top", "1")
+    assert any("IEC 60228" in n and "90 °C" in n for n in data["notes"])
+    assert not any("reactance-only" in n for n in data["notes"])
+    bare = tmp_path / "bare.toml"
+    bare.write_text("\n".join(ln for ln in text.splitlines()
+                              if not ln.strip().startswith("area_mm2")), encoding="utf-8")
+    data = rank_json(capsys, str(bare), "--top", "1")
+    assert any(n.startswith("reactance-only sharing") and "F1 L1" in n for n in data["notes"])
+    assert main(["rank", str(bare), "--top", "1"]) == 0
+    assert "reactance-only sharing" in capsys.readouterr().out

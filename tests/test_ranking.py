@@ -357,3 +357,75 @@ def test_solved_search_over_twins_equals_a_solved_brute_force(area):
     want = brute_force(lay, lambda moved: stray_uT(moved, 500.0, solved_sources(moved)))
     got = sorted({round(o.max_resultant_uT, 9) for o in res.options})
     assert got == pytest.approx(want[:len(got)], rel=1e-9)
+
+
+def test_twin_circuits_are_merged_and_the_solved_optimum_is_the_brute_force_one():
+    # Two circuits alike in every respect (system, current, harmonics, sizes) can trade
+    # labels without changing any current or field, so the search scores one of each pair
+    # of twins; the solved sharing still tells their conductors apart (a conductor of W1
+    # is not joined with one of W2). Reference: the brute force of every arrangement, each
+    # solved by the sharing solve and scored by the `field` command's function.
+    names = ["W1-La", "W1-Na", "W2-La", "W2-Na", "W1-Lb", "W1-Nb", "W2-Lb", "W2-Nb"]
+    cons = tuple(Conductor(n, n[:2], n[3], 60.0 + 32.0 * i, 16.0, 30.0, 120.0, "copper")
+                 for i, n in enumerate(names))
+    lay = Layout(title="twins", trays=(Tray("T", 0, 0, 400, 80),), conductors=cons,
+                 circuits=(Circuit("W1", "ac1", 300.0, harmonics=((3, 0.2),)),
+                           Circuit("W2", "ac1", 300.0, harmonics=((3, 0.2),))))
+    res = rank_layout(lay, top_k=3)
+    assert res.method == "exhaustive" and res.certified
+    assert any("twin circuit" in n for n in res.notes)
+    want = brute_force(lay, lambda moved: stray_uT(moved, 500.0, solved_sources(moved)))
+    got = sorted({round(o.max_resultant_uT, 9) for o in res.options})
+    assert got == pytest.approx(want[:len(got)], rel=1e-9)
+
+
+def test_every_relabelling_merged_as_a_twin_leaves_the_solved_field_unchanged():
+    # The merge is only right when every relabelling is a true symmetry: an arrangement and
+    # its relabelled twin, each solved from scratch by the sharing solve, give one field.
+    from trayadvisor.ranking.build import build_space
+    from trayadvisor.ranking.symmetry import circuit_permutations, compose, phase_symmetries
+
+    names = ["W1-La", "W1-Na", "W2-La", "W2-Na", "W1-Lb", "W1-Nb", "W2-Lb", "W2-Nb",
+             "W3-La", "W3-Na", "W3-Lb", "W3-Nb"]
+    cons = tuple(Conductor(n, n[:2], n[3], 60.0 + 32.0 * i, 16.0, 30.0, 120.0, "copper")
+                 for i, n in enumerate(names))
+    lay = Layout(title="twins", trays=(Tray("T", 0, 0, 450, 80),), conductors=cons,
+                 circuits=(Circuit("W1", "ac1", 300.0, harmonics=((3, 0.2),)),
+                           Circuit("W2", "ac1", 300.0, harmonics=((3, 0.2),)),
+                           Circuit("W3", "ac1", 200.0)))
+    space = build_space(lay, identity=True)
+    kmaps = compose(circuit_permutations(space, lay),
+                    phase_symmetries(space, lay, conjugate=False))
+    assert len(kmaps) >= 3  # W1 <-> W2, polarity reversal, and both
+
+    def score(codes: np.ndarray) -> float:
+        moved = lay.with_positions(space.positions_of(codes, lay))
+        return stray_uT(moved, 500.0, solved_sources(moved))
+
+    rng = np.random.default_rng(11)
+    for _ in range(6):
+        a = rng.permutation(space.reference())
+        for m in kmaps:
+            assert score(m[a]) == pytest.approx(score(a), rel=1e-9)
+
+
+def test_circuits_that_differ_are_not_twins():
+    # Another current, another size or a fixed conductor: no relabelling is a symmetry.
+    from trayadvisor.ranking.build import build_space
+    from trayadvisor.ranking.symmetry import circuit_permutations
+
+    def pair(current_b: float = 300.0, area_b: float = 120.0, fixed: bool = False) -> Layout:
+        cons = (Conductor("W1-L", "W1", "L", 60, 16, 30, 120.0, "copper"),
+                Conductor("W1-N", "W1", "N", 92, 16, 30, 120.0, "copper"),
+                Conductor("W2-L", "W2", "L", 124, 16, 30, area_b, "copper", fixed=fixed),
+                Conductor("W2-N", "W2", "N", 156, 16, 30, area_b, "copper"))
+        return Layout(trays=(Tray("T", 0, 0, 400, 80),), conductors=cons,
+                      circuits=(Circuit("W1", "ac1", 300.0), Circuit("W2", "ac1", current_b)))
+
+    def twins(lay: Layout) -> int:
+        return len(circuit_permutations(build_space(lay, identity=True), lay))
+
+    assert twins(pair()) == 1
+    assert twins(pair(current_b=310.0)) == 0
+    assert twins(pair(area_b=95.0)) == 0
+    assert twins(pair(fixed=True)) == 0

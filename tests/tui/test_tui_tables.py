@@ -79,7 +79,8 @@ def test_rows_carry_the_engine_figures_and_the_exporters_moves() -> None:
     for opt in r.options:
         cells = option_cells(r, opt)
         assert len(cells) == len(columns(r)) and cells[0] == str(opt.rank)
-        assert cells[2] == f"{opt.reduction_pct:.1f}"
+        # the engine's figure to one decimal; one that rounds to zero is "0", never "-0.0"
+        assert float(cells[2]) == round(opt.reduction_pct, 1) and cells[2] != "-0.0"
         moved = sum(1 for row in rows if row["rank"] == str(opt.rank) and row["moved"] == "yes")
         assert moved_count(r, opt) == moved
 

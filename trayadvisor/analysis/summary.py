@@ -19,6 +19,7 @@ from trayadvisor.coupling import (
     DEFAULT_TEMPERATURE_C,
     carried_sources,
     check_current_model,
+    check_temperature,
     solve_sharing,
 )
 from trayadvisor.engine import (
@@ -76,11 +77,13 @@ class FieldSummary:
     currents: str = "solved"  # the current model: "solved" sharing or "equal" shares
     conductor_currents: tuple[ConductorCurrent, ...] = ()
     notes: tuple[str, ...] = ()
+    temperature_c: float | None = None  # conductor temperature of R' (solved sharing only)
 
     def to_json(self) -> dict:
         """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
         return {
             "currents": self.currents,
+            "temperature_c": self.temperature_c,
             "distance_mm": self.distance_mm,
             "max_resultant_uT": self.max_resultant_uT,
             "max_at_mm": [self.max_at_mm[0], self.max_at_mm[1]],
@@ -149,14 +152,19 @@ def field_summary(
     Raises
     ------
     ValueError
-        For a ``distance_mm`` that is negative or not finite, or an unknown ``currents``
-        (the message names the parameter).
+        For a ``distance_mm`` that is negative or not finite, an unknown ``currents`` or a
+        ``temperature_c`` outside :data:`trayadvisor.coupling.TEMPERATURE_RANGE_C` (the
+        message names the parameter).
     trayadvisor.coupling.SharingError
         When the sharing of some parallel conductors has no solution (naming them).
     """
     if not (math.isfinite(distance_mm) and distance_mm >= 0):
         raise ValueError(f"distance_mm = {distance_mm!r}: must be zero or a positive number")
     if check_current_model(currents) == "solved":
+        try:
+            temperature_c = check_temperature(temperature_c)
+        except ValueError as exc:
+            raise ValueError(f"temperature_c = {temperature_c!r}: {exc}") from None
         shares = solve_sharing(layout, temperature_c)
         src, notes = shares.sources, tuple(shares.notes())
     else:
@@ -194,6 +202,7 @@ def field_summary(
             for k, h in enumerate(src.orders)
             for name, v in zip(src.names, src.currents[k], strict=True)),
         notes=notes,
+        temperature_c=temperature_c if currents == "solved" else None,
     )
 
 

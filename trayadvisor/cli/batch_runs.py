@@ -15,7 +15,7 @@ from pathlib import Path
 from trayadvisor.batch import JOBS, FileResult, run_files, summary_csv
 from trayadvisor.cli.common import UserError, print_json
 from trayadvisor.layoutfile import atomic_write_text
-from trayadvisor.output import CAUTION_LINE, decay_text, fmt_uT
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_fixed, fmt_uT
 
 
 def human_line(kind: str, r: FileResult) -> str:
@@ -29,7 +29,7 @@ def human_line(kind: str, r: FileResult) -> str:
     best = "-" if row["best_uT"] is None else f"{fmt_uT(row['best_uT'])} µT"
     return (f"{r.file}: {row['method']}, {row['evaluated']} evaluated: "
             f"{fmt_uT(row['baseline_uT'])} µT now, best {best}"
-            + ("" if red is None else f" ({red:.1f} % lower)"))
+            + ("" if red is None else f" ({fmt_fixed(red)} % lower)"))
 
 
 class ProgressBar:

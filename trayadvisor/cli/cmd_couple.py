@@ -5,14 +5,19 @@ from __future__ import annotations
 import argparse
 import math
 
-from trayadvisor.cli.common import UserError, current_model, load, positive, print_json
-from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, CouplingSummary, coupling_summary
+from trayadvisor.cli.common import (
+    UserError,
+    add_temperature,
+    current_model,
+    load,
+    positive,
+    print_json,
+    temperature,
+)
+from trayadvisor.coupling import CouplingSummary, coupling_summary
 from trayadvisor.engine.units import NH
 from trayadvisor.model import Layout
-from trayadvisor.output import CAUTION_LINE
-
-#: Conductor temperatures accepted by ``--temperature-c``, °C.
-TEMPERATURE_RANGE_C = (-50.0, 250.0)
+from trayadvisor.output import CAUTION_LINE, fmt_fixed
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -21,9 +26,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("file", metavar="FILE", help="layout file")
     p.add_argument("--length-m", type=float, default=None, metavar="L",
                    help="run length (m) for signal circuits that give no length_m")
-    p.add_argument("--temperature-c", type=float, default=DEFAULT_TEMPERATURE_C, metavar="T",
-                   help="conductor temperature for the resistance "
-                   f"(default {DEFAULT_TEMPERATURE_C:g} °C)")
+    add_temperature(p)
     p.add_argument("--earth-y-mm", type=float, default=None, metavar="Y",
                    help="height of an earth reference plane (mm): also report the "
                    "screen/earth loop of each signal pair")
@@ -38,11 +41,7 @@ def options(args: argparse.Namespace) -> dict:
     """Validated keyword arguments for :func:`trayadvisor.coupling.coupling_summary`."""
     if args.length_m is not None:
         positive("--length-m", args.length_m)
-    t = args.temperature_c
-    lo, hi = TEMPERATURE_RANGE_C
-    if not math.isfinite(t) or not lo <= t <= hi:
-        raise UserError(f"--temperature-c {t}: give a conductor temperature from {lo:g} to "
-                        f"{hi:g} °C, e.g. --temperature-c 70")
+    t = temperature(args)
     if args.earth_y_mm is not None and not math.isfinite(args.earth_y_mm):
         raise UserError(f"--earth-y-mm {args.earth_y_mm}: must be a finite height in mm")
     return {"length_m": args.length_m, "temperature_c": t, "earth_y_mm": args.earth_y_mm,
@@ -91,12 +90,13 @@ def render(path: str, layout: Layout, s: CouplingSummary) -> str:
         rows.append(f"  current sharing between parallel conductors ({basis})")
         rows.append(f"  {'conductor':<16}{'current A':>11}{'angle °':>9}{'share %':>9}")
         for c in sh.shares:
-            share = "-" if c.share_pct is None else f"{c.share_pct:.1f}"
-            rows.append(f"  {c.conductor[:15]:<16}{c.current_a:>11.1f}{c.angle_deg:>9.1f}"
-                        f"{share:>9}")
+            share = "-" if c.share_pct is None else fmt_fixed(c.share_pct)
+            rows.append(f"  {c.conductor[:15]:<16}{fmt_fixed(c.current_a):>11}"
+                        f"{fmt_fixed(c.angle_deg):>9}{share:>9}")
         rows.append("  imbalance (max−min)/mean: " + ", ".join(
-            f"{g.circuit} {g.phase} " + (f"{g.imbalance_pct:.1f} %" if g.imbalance_pct is not None
-                                         else f"no total, {g.circulating_a:.1f} A circulating")
+            f"{g.circuit} {g.phase} " + (
+                f"{fmt_fixed(g.imbalance_pct)} %" if g.imbalance_pct is not None
+                else f"no total, {fmt_fixed(g.circulating_a)} A circulating")
             for g in sh.groups))
     else:
         rows.append("  no parallel conductors: nothing to share")

@@ -8,12 +8,14 @@ from trayadvisor.analysis import FieldSummary, field_summary
 from trayadvisor.batch import expand_inputs
 from trayadvisor.cli.batch_runs import run_batch
 from trayadvisor.cli.common import (
+    add_temperature,
     current_model,
     load,
     non_negative,
     parse_xy,
     positive,
     print_json,
+    temperature,
 )
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.model import Layout
@@ -36,6 +38,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--sharing", action="store_true",
                    help="solved current sharing between parallel conductors (the default; "
                    "kept for scripts)")
+    add_temperature(p)
     p.add_argument("--json", action="store_true", help="print the figures as JSON")
     p.add_argument("--out", default=None, metavar="SUMMARY.csv",
                    help="batch runs: write one summary row per file")
@@ -55,6 +58,7 @@ def options(args: argparse.Namespace) -> dict:
         "at": [parse_xy(t) for t in args.at],
         "limits": limits,
         "currents": current_model(args),
+        "temperature_c": temperature(args),
     }
 
 

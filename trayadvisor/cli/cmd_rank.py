@@ -12,11 +12,11 @@ from pathlib import Path
 
 from trayadvisor.batch import expand_inputs
 from trayadvisor.cli.batch_runs import run_batch
-from trayadvisor.cli.common import UserError, current_model, load, print_json
+from trayadvisor.cli.common import UserError, add_temperature, current_model, load, print_json
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.layoutfile import LayoutError, validate_layout, write_layout
 from trayadvisor.model import Layout
-from trayadvisor.output import CAUTION_LINE, decay_text, fmt_uT, write_result
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_fixed, fmt_uT, write_result
 from trayadvisor.ranking import (
     DEFAULT_MAX_EXHAUSTIVE,
     SLOT_RULES,
@@ -36,7 +36,7 @@ FLAGS: dict[str, str] = {
     "slots": "--slots", "bundles": "--bundles", "budget_s": "--budget-s", "seed": "--seed",
     "max_exhaustive": "--max-exhaustive", "currents": "--equal-shares",
     "max_imbalance_pct": "--max-imbalance-pct",
-    "max_induced_mV_per_m": "--max-induced-mv-per-m",
+    "max_induced_mV_per_m": "--max-induced-mv-per-m", "temperature_c": "--temperature-c",
 }
 
 
@@ -71,6 +71,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    "(default: each arrangement's solved sharing)")
     p.add_argument("--sharing", action="store_true",
                    help="solved current sharing (the default; kept for scripts)")
+    add_temperature(p)
     p.add_argument("--max-imbalance-pct", default=None, metavar="P",
                    help="keep only options whose parallel conductors share current within "
                    "P %% ((max-min)/mean of each phase group)")
@@ -119,7 +120,7 @@ def options(args: argparse.Namespace) -> dict:
     given = {"distance_mm": args.distance_mm, "top_k": args.top, "objective": args.objective,
              "slots": args.slots, "budget_s": args.budget_s, "seed": args.seed,
              "max_exhaustive": args.max_exhaustive, "max_imbalance_pct": imbalance,
-             "max_induced_mV_per_m": induced}
+             "max_induced_mV_per_m": induced, "temperature_c": args.temperature_c}
     opts = {
         "distance_mm": _float("--distance-mm", args.distance_mm),
         "top_k": _int("--top", args.top),
@@ -130,6 +131,7 @@ def options(args: argparse.Namespace) -> dict:
         "seed": _int("--seed", args.seed),
         "max_exhaustive": _int("--max-exhaustive", args.max_exhaustive),
         "currents": current_model(args),
+        "temperature_c": args.temperature_c,
         # a limit not given = inf: the figure is listed, nothing is excluded
         "max_imbalance_pct": math.inf if imbalance is None
         else _float("--max-imbalance-pct", imbalance),
@@ -153,10 +155,10 @@ def render(path: str, layout: Layout, r: RankResult) -> str:
             f"  now (arrangement in the file): {fmt_uT(r.baseline_uT)} µT",
             f"  {'rank':>4}  {'µT':>9}  {'reduction':>9}  {'dB':>6}  far field"]
     for o in r.options:
-        db = "inf" if math.isinf(o.reduction_db) else f"{o.reduction_db:.1f}"
+        db = fmt_fixed(o.reduction_db)
         figs = "".join(f"  {k} {v:.3g}" for k, v in o.figures.items())
         rows.append(f"  {o.rank:>4}  {fmt_uT(o.max_resultant_uT):>9}  "
-                    f"{o.reduction_pct:>7.1f} %  {db:>6}  "
+                    f"{fmt_fixed(o.reduction_pct):>7} %  {db:>6}  "
                     f"{decay_text(o.far_field_order, short=True, none='-')}"
                     f"{figs}")
     rows.append("  now:")
@@ -273,7 +275,7 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
                             f"({err.message})") from None
             write_layout(new, out)
             print(f"wrote {out}: {path} with option {apply} "
-                  f"({fmt_uT(opt.max_resultant_uT)} µT, {opt.reduction_pct:.1f} % lower)",
+                  f"({fmt_uT(opt.max_resultant_uT)} µT, {fmt_fixed(opt.reduction_pct)} % lower)",
                   file=stream)
             return
         fmt = write_result(result, out, layout, layout.title)

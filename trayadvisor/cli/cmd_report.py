@@ -6,7 +6,14 @@ import argparse
 import os
 from pathlib import Path
 
-from trayadvisor.cli.common import UserError, current_model, load, non_negative
+from trayadvisor.cli.common import (
+    UserError,
+    add_temperature,
+    current_model,
+    load,
+    non_negative,
+    temperature,
+)
 from trayadvisor.coupling import SharingError
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.output import CAUTION_LINE, REPORT_FORMATS, write_report
@@ -25,11 +32,13 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--equal-shares", action="store_true",
                    help="every figure with equal shares between parallel conductors "
                    "(default: the solved sharing)")
+    add_temperature(p)
     p.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace) -> int:
     non_negative("--distance-mm", args.distance_mm)
+    t = temperature(args)
     if args.top < 1:
         raise UserError(f"--top {args.top}: must be 1 or more")
     out = Path(args.out)
@@ -46,7 +55,8 @@ def run(args: argparse.Namespace) -> int:
     try:
         written = write_report(layout, out, source_text=text, source_name=args.file,
                                distance_mm=args.distance_mm, top=args.top,
-                               rank=not args.no_rank, currents=current_model(args))
+                               rank=not args.no_rank, currents=current_model(args),
+                               temperature_c=t)
     except OSError as exc:
         raise UserError(f"--out {args.out}: cannot write ({exc.strerror or exc})") from None
     except SharingError as exc:

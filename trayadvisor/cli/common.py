@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import argparse
 import math
 import sys
 from pathlib import Path
 from typing import Any
 
+from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, check_temperature
 from trayadvisor.layoutfile import LayoutError, read_layout
 from trayadvisor.model import Layout
 from trayadvisor.output import dumps
@@ -53,6 +55,22 @@ def current_model(args: Any) -> str:
     if getattr(args, "equal_shares", False) and getattr(args, "sharing", False):
         raise UserError("--equal-shares and --sharing contradict each other; give one")
     return "equal" if getattr(args, "equal_shares", False) else "solved"
+
+
+def add_temperature(p: argparse.ArgumentParser) -> None:
+    """``--temperature-c``: the conductor temperature of the resistance (solved sharing)."""
+    p.add_argument("--temperature-c", type=float, default=DEFAULT_TEMPERATURE_C, metavar="T",
+                   help="conductor temperature for the resistance in the solved sharing "
+                   f"(default {DEFAULT_TEMPERATURE_C:g} °C)")
+
+
+def temperature(args: Any) -> float:
+    """The validated ``--temperature-c``."""
+    try:
+        return check_temperature(args.temperature_c)
+    except ValueError as exc:
+        raise UserError(f"--temperature-c {args.temperature_c}: {exc}, "
+                        "e.g. --temperature-c 70") from None
 
 
 def print_json(obj: Any) -> None:

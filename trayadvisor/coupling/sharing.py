@@ -29,6 +29,7 @@ at DC such a group shares equally.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -42,6 +43,9 @@ from trayadvisor.model import Layout
 #: Conductor temperature for R' unless the caller states one: 90 °C, the maximum continuous
 #: operating temperature of XLPE/EPR insulated cables (common practice).
 DEFAULT_TEMPERATURE_C: float = 90.0
+#: Conductor temperatures accepted (°C): the linear temperature coefficient of IEC 60287-1-1
+#: is meant for operating temperatures; far outside this range R' would be meaningless.
+TEMPERATURE_RANGE_C: tuple[float, float] = (-50.0, 250.0)
 #: Material assumed when a conductor gives ``area_mm2`` but no ``material``.
 DEFAULT_MATERIAL = "copper"
 #: The current models every figure can use: solved sharing (the default), or equal shares.
@@ -308,9 +312,9 @@ class SharingResult:
         """What the figures rest on, in words (shown with every output that uses them)."""
         out: list[str] = []
         if self.groups:
-            out.append("R' from IEC 60228 (class 2, 20 °C) at the conductor temperature, AC "
-                       "resistance by the IEC 60287-1-1 skin effect; proximity effect left "
-                       "out")
+            out.append("R' from IEC 60228 (class 2, 20 °C) at a conductor temperature of "
+                       f"{self.temperature_c:g} °C, AC resistance by the IEC 60287-1-1 skin "
+                       "effect; proximity effect left out")
         rx = [f"{g.circuit} {g.phase}" for g in self.groups if g.reactance_only]
         if rx:
             out.append("reactance-only sharing (no conductor area given): " + ", ".join(rx))
@@ -389,6 +393,16 @@ def solved_sources(layout: Layout, temperature_c: float = DEFAULT_TEMPERATURE_C
                    ) -> SourceArrays:
     """The layout's sources with the solved currents of its parallel conductors."""
     return solve_sharing(layout, temperature_c).sources
+
+
+def check_temperature(temperature_c: float) -> float:
+    """``temperature_c`` as a float, or ``ValueError`` naming the accepted range."""
+    lo, hi = TEMPERATURE_RANGE_C
+    t = temperature_c
+    if isinstance(t, bool) or not isinstance(t, (int, float)) or not math.isfinite(t) \
+            or not lo <= t <= hi:
+        raise ValueError(f"give a conductor temperature from {lo:g} to {hi:g} °C")
+    return float(t)
 
 
 def carried_sources(layout: Layout, currents: str = "solved",

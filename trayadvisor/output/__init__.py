@@ -19,7 +19,7 @@ from trayadvisor.output.exports import ExportError, export_format, export_text, 
 from trayadvisor.output.jsontext import dumps, json_safe
 from trayadvisor.output.report import FORMATS as REPORT_FORMATS
 from trayadvisor.output.report import ReportError, write_report
-from trayadvisor.output.wording import decay_text, fmt_mm, fmt_uT
+from trayadvisor.output.wording import decay_text, fmt_fixed, fmt_mm, fmt_uT
 
 __all__ = [
     "CAUTIONS",
@@ -34,6 +34,7 @@ __all__ = [
     "export_format",
     "export_text",
     "fmt_mm",
+    "fmt_fixed",
     "fmt_uT",
     "json_safe",
     "write_report",

@@ -17,7 +17,7 @@ import numpy as np
 
 from trayadvisor import __version__
 from trayadvisor.analysis import FieldSummary, field_summary
-from trayadvisor.coupling import carried_sources, coupling_summary
+from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, carried_sources, coupling_summary
 from trayadvisor.engine import DEFAULT_DISTANCE_MM, field_grid_uT, stray_uT
 from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
@@ -108,14 +108,17 @@ def contour_bounds(layout: Layout, distance_mm: float) -> tuple[float, float, fl
 def build_report(layout: Layout, *, source_text: str | None = None, source_name: str = "",
                  distance_mm: float = DEFAULT_DISTANCE_MM, top: int = 6, rank: bool = True,
                  coupling: bool = True, pictures: bool = True,
-                 currents: str = "solved") -> ReportContent:
+                 currents: str = "solved",
+                 temperature_c: float = DEFAULT_TEMPERATURE_C) -> ReportContent:
     """Compute every figure and picture of the report for ``layout``; ``currents`` is the
-    current model of every figure ("solved" sharing, the default, or "equal" shares)."""
+    current model of every figure ("solved" sharing, the default, or "equal" shares) and
+    ``temperature_c`` the conductor temperature of the resistance in the solved sharing."""
     f = float(layout.frequency_hz)
     library = library_at(f)
     summary = field_summary(layout, distance_mm=distance_mm, currents=currents,
+                            temperature_c=temperature_c,
                             limits=[(lim.name, ut, library_source(lim)) for lim, ut in library])
-    src = carried_sources(layout, currents)
+    src = carried_sources(layout, currents, temperature_c)
     d = sweep_distances(summary)
     b = np.array([stray_uT(layout, float(x), src) for x in d])
     content = ReportContent(
@@ -126,11 +129,13 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
         sweep_uT=b)
     if rank:
         content.rank_json = rank_layout(layout, distance_mm=distance_mm, top_k=top,
-                                        currents=currents).to_json()
+                                        currents=currents,
+                                        temperature_c=temperature_c).to_json()
     else:
         content.rank_note = "Ranking was not run for this report."
     if coupling:
-        content.coupling_json = coupling_summary(layout, currents=currents).to_json()
+        content.coupling_json = coupling_summary(layout, currents=currents,
+                                                 temperature_c=temperature_c).to_json()
     if not pictures:
         return content
     bounds = contour_bounds(layout, distance_mm)

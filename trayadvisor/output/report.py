@@ -9,6 +9,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from trayadvisor.coupling import DEFAULT_TEMPERATURE_C
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.layoutfile import atomic_write_text
 from trayadvisor.model import Layout
@@ -26,7 +27,8 @@ class ReportError(ValueError):
 def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: str | None = None,
                  source_name: str = "", distance_mm: float = DEFAULT_DISTANCE_MM, top: int = 6,
                  rank: bool = True, coupling: bool = True,
-                 currents: str = "solved") -> list[Path]:
+                 currents: str = "solved",
+                 temperature_c: float = DEFAULT_TEMPERATURE_C) -> list[Path]:
     """Write the report for ``layout`` to ``path`` (.html, or .md with SVG files beside it).
 
     Parameters
@@ -40,6 +42,7 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
     distance_mm, top : distance d for the stray field; number of ranked options shown.
     rank, coupling : include those sections (when their engines are available).
     currents : the current model of every figure: "solved" sharing (the default) or "equal".
+    temperature_c : conductor temperature of the resistance in the solved sharing (°C).
 
     Returns
     -------
@@ -56,7 +59,7 @@ def write_report(layout: Layout, path: str | os.PathLike[str], *, source_text: s
         raise ReportError(f"{target}: a report is .html or .md, not '{target.suffix or '(none)'}'")
     content = build_report(layout, source_text=source_text, source_name=source_name,
                            distance_mm=distance_mm, top=top, rank=rank, coupling=coupling,
-                           currents=currents)
+                           currents=currents, temperature_c=temperature_c)
     if kind == "html":
         atomic_write_text(target, render_html(content))
         return [target]

@@ -35,6 +35,20 @@ def fmt_uT(v: float) -> str:
     return f"{v:.3g}"
 
 
+def fmt_fixed(v: float, digits: int = 1) -> str:
+    """``v`` with ``digits`` decimals; a figure that rounds to zero is "0" (never "-0.0").
+
+    Rounding noise (an imbalance of 1e-13 %, a reduction of -1e-14 dB) must not print as a
+    figure of its own; non-finite values print as "inf", "-inf" or "–".
+    """
+    if math.isnan(v):
+        return "–"
+    if math.isinf(v):
+        return "inf" if v > 0 else "-inf"
+    text = f"{v:.{digits}f}"
+    return "0" if float(text) == 0 else text
+
+
 def fmt_mm(v: float) -> str:
     """A distance in mm; infinite = beyond the 100 m the clearance search covers."""
     if not math.isfinite(v):

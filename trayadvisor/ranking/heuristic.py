@@ -37,7 +37,7 @@ from trayadvisor.ranking.symmetry import find_mirror, mirror_subproblem
 from trayadvisor.ranking.tables import Pool, Tables
 
 SEED_EXHAUSTIVE = 2_000_000  #: restricted spaces up to this size are enumerated exactly
-_SEED_SHARE = 0.6  # share of the time budget the restricted searches may use
+_SEED_SHARE = 0.3  # share of the time budget the restricted searches may use
 _SEED_POOL = 16
 
 Problem = tuple[Space, Tables, Callable[[np.ndarray], np.ndarray]]

@@ -26,6 +26,8 @@ _SCREEN_POINTS = 8  # peak points used to screen moves
 _BATCH = 24  # moves evaluated on every point per batch
 _MAX_BATCHES = 4  # batches tried before a state is declared a local optimum
 _RESTART_AFTER = 30  # failed perturbations before a restart (at least; or J)
+_SLACK = 0.01  # a perturbed descent within this share of the walk's best replaces it
+_KICK_DIV = 10  # a perturbation makes up to n_positions / _KICK_DIV random moves
 _RANDOM_RESTART = 0.1  # share of restarts from a random arrangement (else from the elite)
 
 
@@ -239,7 +241,7 @@ def run_local(space: Space, tables: Tables, pool: Pool, *, seed: int, patience: 
     best, since, last = inc_m, 0, 0
     fails = 0
     restart_after = max(_RESTART_AFTER, space.n_positions)
-    kick = max(2, space.n_positions // 10)
+    kick = max(2, space.n_positions // _KICK_DIV)
     runs = 0
     while since < patience or since < last:
         if cancel is not None and cancel():
@@ -266,7 +268,7 @@ def run_local(space: Space, tables: Tables, pool: Pool, *, seed: int, patience: 
             inc_a, inc_m, fails = a1, m1, 0
         else:
             fails += 1
-            if m1 <= inc_m:
+            if m1 <= inc_m * (1.0 + _SLACK):
                 inc_a = a1
         if m1 < best * (1.0 - 1e-12):
             best, since, last = m1, 0, runs

@@ -25,6 +25,7 @@ from trayadvisor.coupling import (
     CURRENT_MODELS,
     DEFAULT_TEMPERATURE_C,
     carried_sources,
+    check_temperature,
     imbalance_constraint,
     induced_voltage_constraint,
     solve_sharing,
@@ -42,7 +43,13 @@ from trayadvisor.ranking.result import Constraint, RankOption, RankResult
 from trayadvisor.ranking.sketch import sketch_text
 from trayadvisor.ranking.slots import SLOT_RULES
 from trayadvisor.ranking.solved import SolvedTables
-from trayadvisor.ranking.symmetry import find_mirror, phase_symmetries, symmetry_group
+from trayadvisor.ranking.symmetry import (
+    circuit_permutations,
+    compose,
+    find_mirror,
+    phase_symmetries,
+    symmetry_group,
+)
 from trayadvisor.ranking.tables import Pool, Tables
 
 DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by default
@@ -53,20 +60,24 @@ _SMALL = 512  # below this many arrangements no seeding is needed
 
 def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: float,
                           max_induced_mV_per_m: float, currents: str,  # noqa: N803
-                          figures: bool) -> tuple[Constraint, ...]:
+                          temperature_c: float, figures: bool) -> tuple[Constraint, ...]:
     """The given constraints, the limits on imbalance and victim EMF, and (with ``figures``)
-    figure-only checks (limit inf) for the keys nothing else covers."""
+    figure-only checks (limit inf) for the keys nothing else covers; R′ at
+    ``temperature_c`` like the field scores."""
     out = list(constraints)
+    imbalance = partial(imbalance_constraint, temperature_c=temperature_c)
+    induced = partial(induced_voltage_constraint, currents=currents,
+                      temperature_c=temperature_c)
     if not math.isinf(max_imbalance_pct):
-        out.append(imbalance_constraint(max_imbalance_pct))
+        out.append(imbalance(max_imbalance_pct))
     if not math.isinf(max_induced_mV_per_m):
-        out.append(induced_voltage_constraint(max_induced_mV_per_m, currents=currents))
+        out.append(induced(max_induced_mV_per_m))
     if figures:
         have = {getattr(c, "key", None) for c in out}
         if "imbalance_pct" not in have:
-            out.append(imbalance_constraint(math.inf))
+            out.append(imbalance(math.inf))
         if "induced_mV_per_m" not in have:
-            out.append(induced_voltage_constraint(math.inf, currents=currents))
+            out.append(induced(math.inf))
     return tuple(out)
 
 
@@ -105,7 +116,8 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
                        budget_s: float | None = None, seed: int = 0,
                        max_imbalance_pct: float = math.inf,
                        max_induced_mV_per_m: float = math.inf,  # noqa: N803
-                       currents: str = "solved", **_: object) -> None:
+                       currents: str = "solved",
+                       temperature_c: float = DEFAULT_TEMPERATURE_C, **_: object) -> None:
     """Check the options of :func:`rank_layout` that do not depend on the layout.
 
     Raises :class:`RankError` naming the parameter; front ends call it before a batch so
@@ -121,6 +133,10 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
     _number("max_induced_mV_per_m", max_induced_mV_per_m, positive=True, inf=True)
     if currents not in CURRENT_MODELS:
         raise RankError(f"use one of {', '.join(CURRENT_MODELS)}", "currents", currents)
+    try:
+        check_temperature(temperature_c)
+    except ValueError as exc:
+        raise RankError(str(exc), "temperature_c", temperature_c) from None
     if objective is not None and objective != "contour":
         kind, _, name = str(objective).partition(":")
         if kind not in ("line", "point") or not name:
@@ -205,11 +221,12 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     check_rank_options(distance_mm=distance_mm, top_k=top_k, objective=objective, slots=slots,
                        max_exhaustive=max_exhaustive, budget_s=budget_s, seed=seed,
                        max_imbalance_pct=max_imbalance_pct,
-                       max_induced_mV_per_m=max_induced_mV_per_m, currents=currents)
+                       max_induced_mV_per_m=max_induced_mV_per_m, currents=currents,
+                       temperature_c=temperature_c)
     src = layout_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
-                                        currents, coupling_figures)
+                                        currents, temperature_c, coupling_figures)
     solved = currents == "solved"
     # Solved currents tell apart the parallel groups and sizes, like finite constraints.
     identity = solved or any(not math.isinf(float(getattr(c, "limit", 0.0)))
@@ -219,8 +236,10 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     # Swapping L2 and L3 (complex conjugation) keeps every field only while nothing
     # distinguishes the conductors and the solved currents see no resistance.
     finite = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
-    conjugate = not finite and (not solved or all(
-        g.reactance_only for g in solve_sharing(layout, temperature_c).groups))
+    shares = solve_sharing(layout, temperature_c) if solved else None
+    conjugate = not finite and (shares is None or all(g.reactance_only for g in shares.groups))
+    if shares is not None:  # what the solved currents rest on (R', reactance-only groups)
+        notes.extend(shares.notes())
     _symmetries(space, layout, obj, identity, conjugate, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
@@ -261,8 +280,8 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
         notes.append(f"only {len(options)} option(s) passed the constraints")
     opts = tuple(
         RankOption(rank=r + 1, max_resultant_uT=v,
-                   reduction_pct=100.0 * (1.0 - v / baseline) if baseline > 0 else 0.0,
-                   reduction_db=_db(baseline, v), far_field_order=order,
+                   reduction_pct=_pct(baseline, v), reduction_db=_db(baseline, v),
+                   far_field_order=order,
                    positions=pos, sketch=sketch_text(layout, pos), figures=figs)
         for r, (v, pos, order, figs) in enumerate(options))
     return RankResult(distance_mm=float(distance_mm), method=method, evaluated=int(evaluated),
@@ -280,12 +299,15 @@ def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: 
         return
     axis = obj.mirror_axis_mm(layout)
     mirror = find_mirror(space, layout, axis, identity) if axis is not None else None
-    kmaps = phase_symmetries(space, layout, conjugate=conjugate)
+    phases = phase_symmetries(space, layout, conjugate=conjugate)
+    twins = circuit_permutations(space, layout)
+    kmaps = compose(twins, phases)
     if mirror is not None:
         space.mirror, space.mirror_axis_mm = mirror, axis
         notes.append(f"mirror twins merged (symmetric about x = {axis:g} mm)")
     if kmaps:
-        notes.append(f"phase relabellings with equal field merged ({len(kmaps)} besides "
+        what = " and ".join(w for w, on in (("phase", phases), ("twin circuit", twins)) if on)
+        notes.append(f"{what} relabellings with equal field merged ({len(kmaps)} besides "
                      "the identity)")
     space.symmetries = symmetry_group(mirror, kmaps)
 
@@ -328,8 +350,19 @@ def _closest(space, code: np.ndarray) -> np.ndarray:  # noqa: ANN001
     return orbit[int(np.argmax(same))]
 
 
+#: Option and baseline fields closer than this (relative) are the same field: the
+#: reduction is 0, not a rounding-noise figure such as -1e-14 %.
+_SAME_FIELD = 1e-9
+
+
+def _pct(base: float, v: float) -> float:
+    if base <= 0 or abs(v - base) <= _SAME_FIELD * base:
+        return 0.0
+    return 100.0 * (1.0 - v / base)
+
+
 def _db(base: float, v: float) -> float:
-    if base <= 0:
+    if base <= 0 or abs(v - base) <= _SAME_FIELD * base:
         return 0.0
     return float(20.0 * np.log10(base / v)) if v > 0 else float("inf")
 

@@ -594,10 +594,58 @@ def _solve_small(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
             r0, r1, r2 = rhs[..., 0], rhs[..., 1], rhs[..., 2]
             return np.stack([c00 * r0 + c01 * r1 + c02 * r2, c10 * r0 + c11 * r1 + c12 * r2,
                              c20 * r0 + c21 * r1 + c22 * r2], axis=-1) / det[..., None]
+    if g <= _UNROLLED_MAX and mat.ndim > 2:
+        return _solve_unrolled(mat, rhs)
+    return _solve_lu(mat, rhs)
+
+
+#: Column systems up to this size are solved by elimination unrolled over the batch.
+_UNROLLED_MAX = 8
+#: A pivot below this fraction of its matrix's largest entry sends that system to LU.
+_PIVOT_FLOOR = 1e-10
+
+
+def _solve_lu(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    with np.errstate(all="ignore"):
         try:
             return np.linalg.solve(mat, rhs[..., None])[..., 0]
         except np.linalg.LinAlgError:
             return np.full(rhs.shape, np.nan, dtype=complex)
+
+
+def _solve_unrolled(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Gaussian elimination of a batch of small systems, one vector operation per entry
+    (the batch axis last and contiguous): for G ≤ 8 several times faster than numpy's
+    batched LU, which pays a per-matrix overhead.
+
+    No pivoting: the column systems M = Eᵀ Y E come from Y = Z⁻¹ with Z = R + jX (R ≥ 0
+    diagonal, X positive definite), so −Im M is positive definite and no leading minor
+    vanishes. A system whose pivot nevertheless falls below :data:`_PIVOT_FLOOR` of its
+    largest entry is re-solved by LU with pivoting.
+    """
+    g = mat.shape[-1]
+    a = np.moveaxis(mat, (-2, -1), (0, 1)).copy()  # (G, G, ...)
+    b = np.moveaxis(rhs, -1, 0).copy()  # (G, ...)
+    scale = np.abs(mat).max(axis=(-2, -1))
+    weak = np.zeros(scale.shape, dtype=bool)
+    with np.errstate(all="ignore"):
+        for k in range(g):
+            weak |= ~(np.abs(a[k, k]) > _PIVOT_FLOOR * scale)
+            inv = 1.0 / a[k, k]
+            for i in range(k + 1, g):
+                f = a[i, k] * inv
+                a[i, k + 1:] -= f * a[k, k + 1:]
+                b[i] -= f * b[k]
+        x = np.empty_like(b)
+        for k in range(g - 1, -1, -1):
+            s = b[k].copy()
+            for j in range(k + 1, g):
+                s -= a[k, j] * x[j]
+            x[k] = s / a[k, k]
+    out = np.moveaxis(x, 0, -1)
+    if weak.any():
+        out[weak] = _solve_lu(mat[weak], rhs[weak])
+    return out
 
 
 class BlockScorer:

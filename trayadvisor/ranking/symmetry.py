@@ -18,6 +18,7 @@ continues, unrestricted, from its best arrangements.
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Callable
 
 import numpy as np
@@ -26,6 +27,9 @@ from trayadvisor.engine import layout_sources
 from trayadvisor.model import Layout
 from trayadvisor.ranking.space import TOL_MM, Group, Space
 from trayadvisor.ranking.tables import Tables
+
+#: Twin circuits permuted among themselves up to this many (5! = 120 relabellings).
+_MAX_TWIN_CIRCUITS = 5
 
 
 def mirror_subproblem(space: Space, tables: Tables
@@ -209,6 +213,71 @@ def _keeps_counts(space: Space, kmap: np.ndarray) -> bool:
         if types.get(tuple(moved.tolist())) != int(n):
             return False
     return True
+
+
+def circuit_permutations(space: Space, layout: Layout) -> list[np.ndarray]:
+    """Kind relabellings that exchange whole circuits alike in every respect.
+
+    When kinds tell circuits apart (solved sharing joins the parallel conductors of one
+    circuit's phase, not of another's), two circuits with the same system, currents and
+    harmonics whose conductors match phase by phase (diameter, area, material, count) and are
+    all movable can trade labels: every conductor keeps its place and current, so every field
+    and figure is unchanged. Returns every such non-identity kind map, for the circuits of
+    each class of twins permuted among themselves.
+    """
+    kinds = space.kinds
+    if not kinds or not any(k.identity for k in kinds):
+        return []
+    cons = layout.conductors
+    movable = {i for k in kinds for i in k.members}
+    circuits = {c.name: c for c in layout.circuits}
+    per: dict[str, dict[tuple, int]] = {}
+    for j, k in enumerate(kinds):
+        if k.empty:
+            continue
+        c0 = cons[k.members[0]]
+        key = (c0.phase, _q(k.diameter_mm), c0.area_mm2, c0.material, len(k.members),
+               tuple(np.round(k.currents, 9).tolist()))
+        per.setdefault(c0.circuit, {})[key] = j
+    whole = {name for name in per
+             if all(i in movable for i, c in enumerate(cons) if c.circuit == name)}
+    classes: dict[tuple, list[str]] = {}
+    for name in sorted(whole):
+        circ = circuits.get(name)
+        if circ is None or circ.system == "signal":
+            continue
+        sig = (circ.system, circ.current_a, circ.angle_deg, circ.harmonics,
+               tuple(sorted(per[name], key=repr)))
+        classes.setdefault(sig, []).append(name)
+    base = np.arange(len(kinds))
+    maps = [base]
+    for names in classes.values():
+        if len(names) < 2 or len(names) > _MAX_TWIN_CIRCUITS:
+            continue
+        grown = []
+        for perm in itertools.permutations(names):
+            step = base.copy()
+            for a, b in zip(names, perm, strict=True):
+                for key, j in per[a].items():
+                    step[j] = per[b][key]
+            grown.extend(m[step] for m in maps)
+        maps = grown
+    return [m for m in maps if not np.array_equal(m, base) and _keeps_counts(space, m)]
+
+
+def compose(first: list[np.ndarray], then: list[np.ndarray]) -> list[np.ndarray]:
+    """Every non-identity product of one map of each list (identity included in both)."""
+    if not first or not then:
+        return list(first or then)
+    n = (first or then)[0].size
+    base = np.arange(n)
+    out: list[np.ndarray] = []
+    for a in [base, *first]:
+        for b in [base, *then]:
+            m = b[a]
+            if not np.array_equal(m, base) and not any(np.array_equal(m, o) for o in out):
+                out.append(m)
+    return out
 
 
 def symmetry_group(mirror: np.ndarray | None, kmaps: list[np.ndarray]

@@ -11,6 +11,7 @@ import math
 from dataclasses import dataclass
 
 from trayadvisor.coupling import CouplingSummary
+from trayadvisor.output import fmt_fixed
 
 #: Markers after the worst value of a table; words, so they read without colour.
 WORST_EMF = "◀ largest EMF"
@@ -39,7 +40,7 @@ def g3(v: float | None) -> str:
 
 def f1(v: float | None) -> str:
     """One decimal place (currents, angles, shares, imbalance); "–" for no value."""
-    return f"{v:.1f}" if v is not None and math.isfinite(v) else "–"
+    return fmt_fixed(v) if v is not None and math.isfinite(v) else "–"
 
 
 def _num(v: float | None) -> float:

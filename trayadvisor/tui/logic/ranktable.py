@@ -12,7 +12,7 @@ import math
 from dataclasses import dataclass, replace
 
 from trayadvisor.model import Layout
-from trayadvisor.output import decay_text, fmt_uT
+from trayadvisor.output import decay_text, fmt_fixed, fmt_uT
 from trayadvisor.ranking import RankOption, RankResult, apply_option
 
 MAX_TOP_K = 50  #: most options one run lists
@@ -130,13 +130,11 @@ def moved_count(result: RankResult, option: RankOption) -> int:
 
 
 def _pct(v: float) -> str:
-    return f"{v:.1f}" if math.isfinite(v) else "–"
+    return fmt_fixed(v) if math.isfinite(v) else "–"
 
 
 def _db(v: float) -> str:
-    if math.isinf(v):
-        return "inf"
-    return f"{v:.1f}" if math.isfinite(v) else "–"
+    return fmt_fixed(v) if not math.isinf(v) or v > 0 else "–"
 
 
 def order_text(order: int | None) -> str:

@@ -25,7 +25,7 @@ from textual.widgets import DataTable, ProgressBar, Static
 from textual.worker import get_current_worker
 
 from trayadvisor.model import Layout
-from trayadvisor.output import ExportError, fmt_uT, write_result
+from trayadvisor.output import ExportError, fmt_fixed, fmt_uT, write_result
 from trayadvisor.ranking import RankError, RankOption, RankResult, apply_option, rank_layout
 from trayadvisor.tui.logic.ranktable import (
     RankParams,
@@ -316,7 +316,8 @@ class RankingScreen(WorkScreen):
         best = r.options[0]
         early = "stopped early, best found so far: " if r.stopped_early else ""
         app.set_status(f"{early}{len(r.options)} option(s), best {fmt_uT(best.max_resultant_uT)}"
-                       f" µT ({best.reduction_pct:.1f} % lower); a applies the highlighted one")
+                       f" µT ({fmt_fixed(best.reduction_pct)} % lower); a applies the "
+                       "highlighted one")
 
     # -- applying and saving ----------------------------------------------------------------
     def action_apply(self) -> None:
