@@ -194,3 +194,22 @@ async def test_help_in_the_ranking_view_lists_its_keys() -> None:
             assert f"[{bid}]" in text
         # The app's own keys come before the list widget's cursor keys.
         assert text.index("[ranking.run]") < text.index("[cursor_down]")
+
+
+async def test_keys_typed_in_one_burst_after_tab_land_in_the_next_field() -> None:
+    # A script (or a paste) delivers "3<Tab><Tab><Tab>12<Enter>" at once: every key after a
+    # Tab must reach the field the Tab moved to, so the form asks for top 3 with a 12 %
+    # imbalance limit — not top 312.
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        await pilot.press("3", "p")
+        await pilot.pause()
+        keys = [("3", "3"), ("tab", "\t"), ("tab", "\t"), ("tab", "\t"), ("1", "1"),
+                ("2", "2"), ("enter", "\r")]
+        for key, char in keys:
+            app.post_message(events.Key(key, char))
+        await settle(app, pilot)
+        screen = app.screen
+        assert isinstance(screen, RankingScreen)
+        assert screen.params.top_k == 3 and screen.params.max_imbalance_pct == 12.0

@@ -162,3 +162,19 @@ def test_a_zero_total_group_shows_its_circulating_current_not_a_share() -> None:
     assert "circ" in text and " A" in text and "e+" not in text
     assert all(WORST_SHARE not in ln.text for ln in lines if "F-N" in ln.text)
     assert "%" not in next(ln.text for ln in lines if ln.text.split()[:2] == ["F", "N"])
+
+
+def test_field_readouts_say_which_currents_the_figures_use() -> None:
+    from trayadvisor.analysis import field_summary
+    from trayadvisor.tui.widgets.panels import readout_lines
+
+    demo = read_layout(demo_path())
+
+    def texts(layout, **kw) -> list[str]:
+        return [t for t, _ in readout_lines(field_summary(layout, **kw), None, None, False)]
+
+    assert "Currents solved, R at 90 °C" in texts(demo)
+    assert "Currents solved, R at 40 °C" in texts(demo, temperature_c=40.0)
+    assert "Currents equal shares" in texts(demo, currents="equal")
+    bare = demo.with_conductors([replace(c, area_mm2=None) for c in demo.conductors])
+    assert "Currents solved, no area" in texts(bare)

@@ -239,7 +239,8 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     shares = solve_sharing(layout, temperature_c) if solved else None
     conjugate = not finite and (shares is None or all(g.reactance_only for g in shares.groups))
     if shares is not None:  # what the solved currents rest on (R', reactance-only groups)
-        notes.extend(shares.notes())
+        notes += ["every arrangement scored with its own solved current sharing",
+                  *shares.notes()]
     _symmetries(space, layout, obj, identity, conjugate, notes)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
@@ -271,8 +272,6 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
         notes.append("pool enlarged to certify the top options after re-scoring")
     if method == "exhaustive" and stop:
         certified = False
-    if solved:
-        notes.append("every arrangement scored with its own solved current sharing")
     if stop:
         notes.append({"budget": "stopped at the time budget: best found so far",
                       "cancelled": "cancelled: best found so far"}.get(stop, stop))

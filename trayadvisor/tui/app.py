@@ -63,6 +63,13 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
     MODES = {v.name: v.screen for v in VIEWS}
     DEFAULT_MODE = VIEWS[0].name
     BINDINGS = [
+        # Tab moves the focus before the next key is delivered: as a priority binding the
+        # app handles it at once, so keys typed (or pasted by a script) right after a Tab
+        # land in the next field, not the one left.
+        Binding("tab", "app.focus_next", "Next field", show=False, priority=True,
+                id="focus.next"),
+        Binding("shift+tab", "app.focus_previous", "Previous field", show=False,
+                priority=True, id="focus.previous"),
         *(Binding(v.key, f"show_view('{v.name}')", v.title, show=False, id=f"view.{v.name}",
                   tooltip=f"show the {v.title} view") for v in VIEWS),
         Binding("ctrl+s", "save", "Save", id="file.save",

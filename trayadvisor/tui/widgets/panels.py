@@ -179,6 +179,16 @@ class SelectionInfo(Static):
             no_wrap=True, overflow="ellipsis"), layout=False)
 
 
+def currents_text(summary: FieldSummary) -> str:
+    """Which currents the figures use: the solved sharing (flagged when some parallel group
+    has no conductor area, so no resistance) or equal shares."""
+    if summary.currents != "solved":
+        return "Currents equal shares"
+    if any(n.startswith("reactance-only") for n in summary.notes):
+        return "Currents solved, no area"
+    return f"Currents solved, R at {summary.temperature_c:g} °C"
+
+
 def readout_lines(summary: FieldSummary | None, limit: Limit | None,
                   figure: LimitFigure | None, pending: bool) -> list[tuple[str, str]]:
     """(text, style) lines of the field readouts; ``pending``: the figure is older than the
@@ -190,7 +200,8 @@ def readout_lines(summary: FieldSummary | None, limit: Limit | None,
              (f" {fmt_uT(s.max_resultant_uT)} µT resultant RMS", "bold"),
              (f" peak at x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f} mm", ""),
              (f"Far field {order_text(s.far_field_order)}", ""),
-             (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", "")]
+             (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", ""),
+             (currents_text(s), "")]
     if limit is None:
         lines.append(("No limit chosen (d sets one)", ""))
         return lines
@@ -225,8 +236,9 @@ class FieldReadout(Static):
         if summary is None:
             self.update("computing the field…", layout=False)
             return
-        t.append(f"d {summary.distance_mm:g} mm: {fmt_uT(summary.max_resultant_uT)} µT\n",
+        t.append(f"d {summary.distance_mm:g} mm: {fmt_uT(summary.max_resultant_uT)} µT",
                  style="bold")
+        t.append(" (equal shares)\n" if summary.currents != "solved" else "\n")
         if limit is None:
             t.append("no limit chosen (d)")
         elif figure is None:
