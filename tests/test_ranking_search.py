@@ -16,10 +16,11 @@ from trayadvisor.model import Circuit, Conductor, Layout, Tray
 from trayadvisor.ranking.build import build_space
 from trayadvisor.ranking.exhaustive import exhaustive
 from trayadvisor.ranking.local_search import LocalSearch, run_local
+from trayadvisor.ranking.moves import MoveState
 from trayadvisor.ranking.objective import make_objective
 from trayadvisor.ranking.rank import rank_layout
 from trayadvisor.ranking.sets import paired_subproblems, pairings
-from trayadvisor.ranking.solved import MoveState, SolvedTables
+from trayadvisor.ranking.solved import SolvedTables
 from trayadvisor.ranking.tables import Pool, Tables
 
 
@@ -337,3 +338,45 @@ def test_solved_local_search_reaches_a_local_optimum_of_the_exact_scores():
             worse.append(b)
     # Source: brute force over every single swap, scored with fresh solves.
     assert tables.values(np.array(worse)).min() >= m * (1 - 1e-12)
+
+
+@pytest.mark.parametrize("solved", [False, True])
+def test_half_turn_subproblem_is_the_point_symmetric_arrangements(solved):
+    # Two layers of two parallel sets (240 mm² copper): the sub-problem must hold exactly the
+    # arrangements equal to their half-turn image about the centre of the places (brute
+    # force over every arrangement, images found from the coordinates), and its reduced
+    # tables must give each one's full field — equal shares and solved sharing alike.
+    from trayadvisor.ranking.symmetry import invariant_subproblem, point_image
+
+    cons = tuple(Conductor(f"c{k}", "A", ("L1", "L2", "L3")[k % 3], 60.0 + 32.0 * (k % 3),
+                           16.0 + 32.0 * (k // 3), 30.0, 240.0, "copper") for k in range(6))
+    lay = Layout(trays=(Tray("T", 0, 0, 300, 80),), conductors=cons,
+                 circuits=(Circuit("A", "ac3", 500.0, harmonics=((5, 0.2),)),))
+    src = layout_sources(lay)
+    obj = make_objective(lay, 400.0, None, src)
+    space = build_space(lay, identity=solved)
+    tables = (SolvedTables(space, src, obj.search_m, lay, 90.0) if solved
+              else Tables(space, src, obj.search_m))
+    turn = point_image(space)
+    assert turn is not None and np.array_equal(turn[turn], np.arange(6))
+    sub, red, expand = invariant_subproblem(space, tables, turn)
+    pos = space.positions_mm
+    centre = 0.5 * (pos.min(axis=0) + pos.max(axis=0))
+    where = {(round(x, 6), round(y, 6)): j for j, (x, y) in enumerate(pos)}
+    image = [where[(round(2 * centre[0] - x, 6), round(2 * centre[1] - y, 6))] for x, y in pos]
+    everything = np.array(sorted(set(itertools.permutations(space.reference().tolist()))))
+    want = everything[(everything == everything[:, image]).all(axis=1)]
+    pool = Pool(10**4, sub.n_positions)
+    exhaustive(sub, red, pool)
+    got = expand(pool.codes.astype(np.int64))
+    assert {tuple(r) for r in got} == {tuple(r) for r in want} and len(want) == 6
+    assert np.sqrt(pool.values) == pytest.approx(np.sqrt(tables.values(got)), rel=1e-10)
+
+
+def test_no_half_turn_when_a_place_has_no_image():
+    from trayadvisor.ranking.symmetry import point_image
+
+    space, _ = block_setup(stacked(4, 2))
+    assert space.groups and point_image(space) is None  # groups are not supported
+    lay = two_layers()  # the dc pair lies in one row only: no image for its places
+    assert point_image(build_space(lay)) is None

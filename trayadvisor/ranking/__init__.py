@@ -7,12 +7,14 @@
 - :mod:`~trayadvisor.ranking.space` and :mod:`~trayadvisor.ranking.build` — the search space
   (candidate positions, interchangeable kinds, cells, bundles) and its construction;
   :mod:`~trayadvisor.ranking.slots` — slot grids by laying rule.
-- :mod:`~trayadvisor.ranking.symmetry` — mirror and phase symmetries (twins merged), the
-  mirror-invariant sub-problem.
+- :mod:`~trayadvisor.ranking.symmetry` — mirror, phase and twin-circuit symmetries (twins
+  merged), the mirror- and half-turn-invariant sub-problems.
 - :mod:`~trayadvisor.ranking.tables` — per-position field tables, batch scoring, the pool.
 - :mod:`~trayadvisor.ranking.solved` — exact scores with each arrangement's own solved
   currents (one impedance inverse, a small system over the parallel groups per
-  arrangement, rank updates per move).
+  arrangement); :mod:`~trayadvisor.ranking.moves` — rank updates per move;
+  :mod:`~trayadvisor.ranking.blocks` — whole enumeration blocks;
+  :mod:`~trayadvisor.ranking.smallsolve` — the batched small solves.
 - :mod:`~trayadvisor.ranking.enumeration` and :mod:`~trayadvisor.ranking.exhaustive` — exact
   enumeration of the distinct arrangements in blocks, with an exact filter.
 - :mod:`~trayadvisor.ranking.local_search`, :mod:`~trayadvisor.ranking.heuristic` and

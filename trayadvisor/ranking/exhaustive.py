@@ -19,8 +19,8 @@ from collections.abc import Callable
 
 import numpy as np
 
+from trayadvisor.ranking.blocks import BlockScorer
 from trayadvisor.ranking.enumeration import blocks
-from trayadvisor.ranking.solved import BlockScorer
 from trayadvisor.ranking.space import Space
 from trayadvisor.ranking.tables import Pool, Tables
 

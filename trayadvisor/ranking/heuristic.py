@@ -13,7 +13,9 @@ such restriction is a search space of its own, far smaller:
    of each other (each pair's dipole moment vanishes) — one sub-problem per pairing
    direction, usually enumerated exactly;
 4. sets kept together in blocks along each layer;
-5. mirror-invariant arrangements (:mod:`trayadvisor.ranking.symmetry`).
+5. mirror-invariant arrangements (:mod:`trayadvisor.ranking.symmetry`);
+6. arrangements invariant under the half turn about the centre of the places (the dipole
+   moment vanishes; with solved sharing, point-image sets share alike).
 
 Their best arrangements enter the pool and start the unrestricted iterated local search
 (:func:`trayadvisor.ranking.local_search.run_local`), which is free to leave every restriction.
@@ -33,12 +35,18 @@ from trayadvisor.ranking.exhaustive import exhaustive
 from trayadvisor.ranking.local_search import SearchStats, run_local
 from trayadvisor.ranking.sets import paired_subproblems
 from trayadvisor.ranking.space import Space
-from trayadvisor.ranking.symmetry import find_mirror, mirror_subproblem
+from trayadvisor.ranking.symmetry import (
+    find_mirror,
+    invariant_subproblem,
+    mirror_subproblem,
+    point_image,
+)
 from trayadvisor.ranking.tables import Pool, Tables
 
 SEED_EXHAUSTIVE = 2_000_000  #: restricted spaces up to this size are enumerated exactly
-_SEED_SHARE = 0.3  # share of the time budget the restricted searches may use
+_SEED_SHARE = 0.4  # share of the time budget the restricted searches may use
 _SEED_POOL = 16
+_HALF_TURN_SLOTS = 3  # time slots (and seeds) of the half-turn sub-problem when searched
 
 Problem = tuple[Space, Tables, Callable[[np.ndarray], np.ndarray]]
 
@@ -89,6 +97,13 @@ def _problems(layout: Layout, space: Space, tables: Tables, identity: bool) -> l
             out.append(_compose(sym, b_expand))
         out.extend(_compose(p, b_expand) for p in paired_subproblems(b_space, b_tables))
         out.append(blk)
+    turn = point_image(space)
+    if turn is not None:
+        half = invariant_subproblem(space, tables, turn)
+        if half is not None:
+            # searched twice (two seeds, two time slots) when too big to enumerate: the
+            # best arrangements of parallel sets in two layers are of this kind
+            out.extend([half] * (_HALF_TURN_SLOTS if half[0].distinct() > SEED_EXHAUSTIVE else 1))
     sym = mirror_subproblem(space, tables)
     if sym is not None:
         out.append(sym)

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.ranking.solved import move_state
+from trayadvisor.ranking.moves import move_state
 from trayadvisor.ranking.space import Space
 from trayadvisor.ranking.tables import Pool, Tables
 

@@ -41,9 +41,41 @@ def mirror_subproblem(space: Space, tables: Tables
     the axis; groups must come in mirrored pairs (none on the axis) with every set type an
     even number of times.
     """
-    mir = space.mirror
-    if mir is None:
+    if space.mirror is None:
         return None
+    return invariant_subproblem(space, tables, space.mirror)
+
+
+def point_image(space: Space) -> np.ndarray | None:
+    """Position permutation of the half turn about the centre of the candidate positions.
+
+    Arrangements that equal their own half-turn image carry equal currents at ±r about the
+    centre: their dipole moment vanishes, and with solved sharing the sets pair up into
+    equal sharing (the long searches' best arrangements of two-layer parallel sets are of
+    this kind). Needs every position's image to be a position of the same free cell;
+    groups are not supported. A restriction of the search only — no symmetry of the
+    objective is assumed.
+    """
+    pos, dia = space.positions_mm, space.diameters_mm
+    if space.groups or pos.shape[0] < 2:
+        return None
+    c = 0.5 * (pos.min(axis=0) + pos.max(axis=0))
+    keys = {(_q(x), _q(y), _q(d)): j for j, ((x, y), d) in enumerate(zip(pos, dia, strict=True))}
+    img = np.array([keys.get((_q(2 * c[0] - x), _q(2 * c[1] - y), _q(d)), -1)
+                    for (x, y), d in zip(pos, dia, strict=True)], dtype=np.int64)
+    if img.min() < 0:
+        return None
+    for s, e, _ in space.free_cells:
+        if set(img[s:e].tolist()) != set(range(s, e)):
+            return None
+    return img
+
+
+def invariant_subproblem(space: Space, tables: Tables, mir: np.ndarray
+                         ) -> tuple[Space, Tables, Callable[[np.ndarray], np.ndarray]] | None:
+    """The arrangements equal to their image under the involution ``mir`` of positions (a
+    mirror or a half turn): one position per pair plus the fixed points of ``mir``; see
+    :func:`mirror_subproblem` for the conditions."""
     sub_cells: list[tuple[np.ndarray, np.ndarray]] = []
     for s, e, counts in space.free_cells:
         idx = np.arange(s, e)
