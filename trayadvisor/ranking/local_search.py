@@ -66,6 +66,41 @@ def _families(space: Space) -> list[tuple[np.ndarray, np.ndarray]]:
     return out
 
 
+class LinearState:
+    """One arrangement and its field, for tables that add up (equal shares): a move changes
+    the field by ``Δ = Σ_w V[pos_w, new_w] − V[pos_w, old_w]``, O(points) per move. The
+    interface of :class:`trayadvisor.ranking.moves.MoveState`."""
+
+    def __init__(self, tables: Tables, a: np.ndarray) -> None:
+        self.v = tables.V  # (positions, kinds, points, channels)
+        self.a = np.asarray(a, dtype=np.int64).copy()
+        self.s = tables.fields(self.a)[0]  # (points, channels)
+        self._refresh()
+
+    def _refresh(self) -> None:
+        self.r2 = np.einsum("pc,pc->p", self.s, self.s)
+        self.value = float(self.r2.max())
+
+    def peaks(self, n: int) -> np.ndarray:
+        return np.argpartition(self.r2, -min(n, self.r2.size))[-n:]
+
+    def _delta(self, v: np.ndarray, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
+        return (v[pos, self.a[src]] - v[pos, self.a[pos]]).sum(axis=-3)
+
+    def screen(self, pos: np.ndarray, src: np.ndarray, points: np.ndarray) -> np.ndarray:
+        d = self._delta(self.v[:, :, points], pos, src) + self.s[points]
+        return np.einsum("npc,npc->np", d, d).max(axis=1)
+
+    def evaluate(self, pos: np.ndarray, src: np.ndarray) -> np.ndarray:
+        d = self._delta(self.v, pos, src) + self.s
+        return np.einsum("npc,npc->np", d, d).max(axis=1)
+
+    def apply(self, pos: np.ndarray, src: np.ndarray) -> None:
+        self.s = self.s + self._delta(self.v, pos, src)
+        self.a[pos] = self.a[src]
+        self._refresh()
+
+
 class LocalSearch:
     """Descents on one space and one set of tables (see the module notes)."""
 
@@ -109,64 +144,16 @@ class LocalSearch:
 
     def descend(self, a: np.ndarray, pool: Pool | None = None
                 ) -> tuple[np.ndarray, np.ndarray | None, float]:
-        """Improve ``a`` until no move lowers the maximum; returns (a, field, max r²)."""
-        if not self.t.linear:
-            return self._descend_exact(a, pool)
-        a = a.copy()
-        v = self.t.V
-        s = self.t.fields(a)[0]
-        while True:
-            r2 = np.einsum("pc,pc->p", s, s)
-            m = float(r2.max())
-            q = np.argpartition(r2, -min(_SCREEN_POINTS, r2.size))[-_SCREEN_POINTS:]
-            vq = v[:, :, q]
-            sq = s[q]
-            cand: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
-            for pos, src in self.families:
-                ok = (a[pos] != a[src]).any(axis=1)
-                p, r = pos[ok], src[ok]
-                if p.size == 0:
-                    continue
-                d = (vq[p, a[r]] - vq[p, a[p]]).sum(axis=1) + sq
-                b = np.einsum("npc,npc->np", d, d).max(axis=1)
-                self.stats.screened += int(b.size)
-                keep = b < m
-                cand.append((p[keep], r[keep], b[keep]))
-            improved = False
-            for p, r, b in cand:
-                order = np.argsort(b, kind="stable")
-                for k in range(0, min(order.size, _BATCH * _MAX_BATCHES), _BATCH):
-                    sel = order[k:k + _BATCH]
-                    ps, rs = p[sel], r[sel]
-                    d = (v[ps, a[rs]] - v[ps, a[ps]]).sum(axis=1)
-                    full = d + s
-                    val = np.einsum("npc,npc->np", full, full).max(axis=1)
-                    self.stats.evaluated += int(sel.size)
-                    if pool is not None:
-                        pool.add(self._moved(a, ps, rs), val)
-                    best = int(np.argmin(val))
-                    if val[best] < m * (1.0 - 1e-12):
-                        a[ps[best]] = a[rs[best]]
-                        s = s + d[best]
-                        improved = True
-                        break
-                if improved:
-                    break
-            if not improved:
-                self.stats.descents += 1
-                if pool is not None:
-                    pool.add(a[None], np.array([m]))
-                return a, s, m
+        """Improve ``a`` until no move lowers the maximum; returns (a, field, max r²).
 
-    def _descend_exact(self, a: np.ndarray, pool: Pool | None
-                       ) -> tuple[np.ndarray, None, float]:
-        """:meth:`descend` with exact solved scores (the currents change with every move).
-
-        Every move is scored exactly on the few points where the field now peaks — a lower
-        bound of its value, so a move that does not lower the field there cannot lower the
-        maximum — and the most promising ones on every point.
+        Every move is scored on the few points where the field now peaks — a lower bound of
+        its value, so a move that does not lower the field there cannot lower the maximum —
+        and the most promising ones on every point. With field tables that add up the
+        state is :class:`LinearState` (the field is returned too); with solved currents a
+        :func:`trayadvisor.ranking.moves.move_state` (exact; the field is None).
         """
-        state = move_state(self.t, a)  # type: ignore[arg-type]
+        state = LinearState(self.t, a) if self.t.linear else \
+            move_state(self.t, a)  # type: ignore[arg-type]
         while True:
             m = state.value
             q = state.peaks(_SCREEN_POINTS)
@@ -181,28 +168,30 @@ class LocalSearch:
                 self.stats.screened += int(b.size)
                 keep = b < m
                 cand.append((p[keep], r[keep], b[keep]))
-            improved = False
-            for p, r, b in cand:
-                order = np.argsort(b, kind="stable")
-                for k in range(0, min(order.size, _BATCH * _MAX_BATCHES), _BATCH):
-                    sel = order[k:k + _BATCH]
-                    ps, rs = p[sel], r[sel]
-                    val = state.evaluate(ps, rs)
-                    self.stats.evaluated += int(sel.size)
-                    if pool is not None:
-                        pool.add(self._moved(state.a, ps, rs), val)
-                    best = int(np.argmin(val))
-                    if val[best] < m * (1.0 - 1e-12):
-                        state.apply(ps[best], rs[best])
-                        improved = True
-                        break
-                if improved:
-                    break
-            if not improved:
+            if not self._improve(state, cand, m, pool):
                 self.stats.descents += 1
                 if pool is not None:
                     pool.add(state.a[None], np.array([m]))
-                return state.a.copy(), None, m
+                return state.a.copy(), getattr(state, "s", None), m
+
+    def _improve(self, state, cand: list[tuple[np.ndarray, np.ndarray, np.ndarray]],  # noqa: ANN001
+                 m: float, pool: Pool | None) -> bool:
+        """Evaluate the screened moves, most promising first, in batches on every point;
+        make the best of the first batch that lowers the maximum. False: none does."""
+        for p, r, b in cand:
+            order = np.argsort(b, kind="stable")
+            for k in range(0, min(order.size, _BATCH * _MAX_BATCHES), _BATCH):
+                sel = order[k:k + _BATCH]
+                ps, rs = p[sel], r[sel]
+                val = state.evaluate(ps, rs)
+                self.stats.evaluated += int(sel.size)
+                if pool is not None:
+                    pool.add(self._moved(state.a, ps, rs), val)
+                best = int(np.argmin(val))
+                if val[best] < m * (1.0 - 1e-12):
+                    state.apply(ps[best], rs[best])
+                    return True
+        return False
 
     @staticmethod
     def _moved(a: np.ndarray, pos: np.ndarray, src: np.ndarray) -> np.ndarray:

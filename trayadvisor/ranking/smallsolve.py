@@ -103,49 +103,19 @@ def peak_r2(b: np.ndarray) -> np.ndarray:
     return np.where(np.isfinite(out), out, np.inf)
 
 
-def solve_packed(mat: np.ndarray, rhs: np.ndarray, g: int) -> np.ndarray:
-    """Batched solve of symmetric systems given by their upper entries (..., G(G+1)/2) in
-    :func:`numpy.triu_indices` order: Cramer's rule for G ≤ 3, else LU."""
-    with np.errstate(all="ignore"):
-        r = [rhs[..., k] for k in range(g)]
-        if g == 1:
-            return (r[0] / mat[..., 0])[..., None]
-        if g == 2:
-            a, b, d = mat[..., 0], mat[..., 1], mat[..., 2]
-            inv = 1.0 / (a * d - b * b)
-            return np.stack([(d * r[0] - b * r[1]) * inv, (a * r[1] - b * r[0]) * inv], -1)
-        if g == 3:
-            m00, m01, m02, m11, m12, m22 = (mat[..., k] for k in range(6))
-            c00 = m11 * m22 - m12 * m12
-            c01 = m02 * m12 - m01 * m22
-            c02 = m01 * m12 - m02 * m11
-            c11 = m00 * m22 - m02 * m02
-            c12 = m01 * m02 - m00 * m12
-            c22 = m00 * m11 - m01 * m01
-            inv = 1.0 / (m00 * c00 + m01 * c01 + m02 * c02)
-            return np.stack([(c00 * r[0] + c01 * r[1] + c02 * r[2]) * inv,
-                             (c01 * r[0] + c11 * r[1] + c12 * r[2]) * inv,
-                             (c02 * r[0] + c12 * r[1] + c22 * r[2]) * inv], axis=-1)
-    full = np.empty((*mat.shape[:-1], g, g), dtype=mat.dtype)
-    ia, ib = np.triu_indices(g)
-    full[..., ia, ib] = mat
-    full[..., ib, ia] = mat
-    return solve_small(full, rhs)
-
-
-def solve_symmetric(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    """Cramer's rule for batched symmetric systems (..., G, G), G ≤ 3 (upper entries)."""
-    g = mat.shape[-1]
-    r = [rhs[..., i] for i in range(g)]
+def _cramer(m: list[np.ndarray], rhs: np.ndarray) -> np.ndarray:
+    """Cramer's rule for batched symmetric systems of G ≤ 3 given by their upper entries
+    ``m`` (arrays in :func:`numpy.triu_indices` order)."""
+    g = rhs.shape[-1]
+    r = [rhs[..., k] for k in range(g)]
     with np.errstate(all="ignore"):
         if g == 1:
-            return (r[0] / mat[..., 0, 0])[..., None]
+            return (r[0] / m[0])[..., None]
         if g == 2:
-            a, b, d = mat[..., 0, 0], mat[..., 0, 1], mat[..., 1, 1]
+            a, b, d = m
             inv = 1.0 / (a * d - b * b)
             return np.stack([(d * r[0] - b * r[1]) * inv, (a * r[1] - b * r[0]) * inv], -1)
-        m00, m01, m02 = mat[..., 0, 0], mat[..., 0, 1], mat[..., 0, 2]
-        m11, m12, m22 = mat[..., 1, 1], mat[..., 1, 2], mat[..., 2, 2]
+        m00, m01, m02, m11, m12, m22 = m
         c00 = m11 * m22 - m12 * m12
         c01 = m02 * m12 - m01 * m22
         c02 = m01 * m12 - m02 * m11
@@ -156,3 +126,21 @@ def solve_symmetric(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
         return np.stack([(c00 * r[0] + c01 * r[1] + c02 * r[2]) * inv,
                          (c01 * r[0] + c11 * r[1] + c12 * r[2]) * inv,
                          (c02 * r[0] + c12 * r[1] + c22 * r[2]) * inv], axis=-1)
+
+
+def solve_packed(mat: np.ndarray, rhs: np.ndarray, g: int) -> np.ndarray:
+    """Batched solve of symmetric systems given by their upper entries (..., G(G+1)/2) in
+    :func:`numpy.triu_indices` order: Cramer's rule for G ≤ 3, else :func:`solve_small`."""
+    if g <= 3:
+        return _cramer([mat[..., k] for k in range(g * (g + 1) // 2)], rhs)
+    full = np.empty((*mat.shape[:-1], g, g), dtype=mat.dtype)
+    ia, ib = np.triu_indices(g)
+    full[..., ia, ib] = mat
+    full[..., ib, ia] = mat
+    return solve_small(full, rhs)
+
+
+def solve_symmetric(mat: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Cramer's rule for batched symmetric systems (..., G, G), G ≤ 3 (upper entries)."""
+    ia, ib = np.triu_indices(mat.shape[-1])
+    return _cramer([mat[..., i, j] for i, j in zip(ia, ib, strict=True)], rhs)
