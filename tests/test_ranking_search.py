@@ -121,19 +121,25 @@ def test_incremental_moves_match_a_fresh_evaluation():
             assert np.array_equal(np.bincount(a[s0:e0], minlength=counts.size), counts)
 
 
+def single_swaps(space, a: np.ndarray) -> np.ndarray:  # noqa: ANN001
+    """Every arrangement one swap of two places of a cell away from ``a`` (brute force)."""
+    out = []
+    for s, e, _ in space.free_cells:
+        for i, j in itertools.combinations(range(s, e), 2):
+            b = a.copy()
+            b[i], b[j] = b[j], b[i]
+            out.append(b)
+    return np.array(out)
+
+
 def test_local_optimum_has_no_improving_swap():
     lay = two_layers()
     _, _, space, tables = setup(lay)
     ls = LocalSearch(space, tables, np.random.default_rng(4))
     a, _, m = ls.descend(ls.random())
-    worse = []
-    for s, e, _ in space.free_cells:
-        for i, j in itertools.combinations(range(s, e), 2):
-            b = a.copy()
-            b[i], b[j] = b[j], b[i]
-            worse.append(b)
+    worse = single_swaps(space, a)
     # Source: brute force over every single swap of the local optimum.
-    assert tables.values(np.array(worse)).min() >= m * (1 - 1e-12)
+    assert tables.values(worse).min() >= m * (1 - 1e-12)
 
 
 def test_pool_merges_symmetry_classes_and_keeps_the_best():
@@ -330,14 +336,9 @@ def test_solved_local_search_reaches_a_local_optimum_of_the_exact_scores():
     ls = LocalSearch(space, tables, np.random.default_rng(5))
     a, _, m = ls.descend(ls.random())
     assert m == pytest.approx(tables.values(a[None])[0], rel=1e-10)
-    worse = []
-    for s, e, _ in space.free_cells:
-        for i, j in itertools.combinations(range(s, e), 2):
-            b = a.copy()
-            b[i], b[j] = b[j], b[i]
-            worse.append(b)
+    worse = single_swaps(space, a)
     # Source: brute force over every single swap, scored with fresh solves.
-    assert tables.values(np.array(worse)).min() >= m * (1 - 1e-12)
+    assert tables.values(worse).min() >= m * (1 - 1e-12)
 
 
 @pytest.mark.parametrize("solved", [False, True])
