@@ -75,8 +75,8 @@ def test_text_output(capsys, lay_file):
     (["--top", "many"], "trayadvisor rank: --top many: must be a whole number"),
     (["--objective", "line:nope"], "trayadvisor rank: --objective line:nope: the layout has "
                                    "no observation line 'nope'; its lines are wall"),
-    (["--objective", "sideways"], "trayadvisor rank: --objective sideways: use line:NAME or "
-                                  "point:NAME"),
+    (["--objective", "sideways"], "trayadvisor rank: --objective sideways: use line:NAME, "
+                                  "point:NAME, contour or limits"),
     (["--slots", "diagonal"], "trayadvisor rank: --slots diagonal: use one of touching, "
                               "spaced, trefoil"),
     (["--budget-s", "0"], "trayadvisor rank: --budget-s 0: must be a positive number"),

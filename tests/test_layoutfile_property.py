@@ -28,6 +28,7 @@ from trayadvisor.layoutfile.reader import (
     read_layout,
     validate_layout,
 )
+from trayadvisor.limits import LIBRARY
 from trayadvisor.model import (
     MATERIALS,
     PHASES,
@@ -37,6 +38,7 @@ from trayadvisor.model import (
     Conductor,
     Layout,
     Limit,
+    ObservationArea,
     ObservationLine,
     ObservationPoint,
     Tray,
@@ -98,18 +100,38 @@ def valid_layouts(draw: st.DrawFn) -> Layout:
             material=draw(st.none() | st.sampled_from(sorted(MATERIALS))),
             current_a=draw(st.none() | non_negative), angle_deg=draw(st.none() | angle),
             fixed=draw(st.booleans()), tray=draw(st.sampled_from([None, tray.name]))))
-    points = [ObservationPoint(n, draw(coord), draw(coord))
-              for n in draw(st.lists(names, max_size=2, unique=True))]
+    # points, lines and areas share one name space (a limit's places name them)
+    place_names = draw(st.lists(names, max_size=6, unique=True))
+    n_pt, n_ln = draw(st.integers(0, 2)), draw(st.integers(0, 2))
+    points = [ObservationPoint(n, draw(coord), draw(coord)) for n in place_names[:n_pt]]
     lines = []
-    for n in draw(st.lists(names, max_size=2, unique=True)):
+    for n in place_names[n_pt:n_pt + n_ln]:
         xa, ya = draw(coord), draw(coord)
         lines.append(ObservationLine(n, xa, ya, xa + draw(positive), ya + draw(coord),
                                      draw(st.integers(2, 1000))))
-    limits = [Limit(n, draw(positive), draw(st.just("layout file") | names))
-              for n in draw(st.lists(names, max_size=2, unique=True))]
-    return Layout(draw(st.text(st.characters(codec="utf-8"), max_size=20)), draw(positive),
+    areas = []  # below every tray, so that no conductor lies inside
+    for n in place_names[n_pt + n_ln:]:
+        xa, top = draw(coord), y0 - 1.0 - draw(non_negative)
+        areas.append(ObservationArea(n, xa, top - draw(positive), xa + draw(positive), top))
+    frequency = draw(positive)
+    limits = []
+    for n in draw(st.lists(names, max_size=3, unique=True)):
+        places = tuple(draw(st.lists(st.sampled_from(place_names), max_size=3, unique=True))
+                       if place_names else [])
+        usable = [e for e in LIBRARY if e.valid_at(0.0 if e.band == "dc" else frequency)]
+        if usable and draw(st.booleans()):
+            e = draw(st.sampled_from(usable))
+            limits.append(Limit(n, None, draw(st.just("layout file") | names), places,
+                                draw(st.sampled_from([None, e.kind])),
+                                draw(st.sampled_from([None, e.band])), e.id))
+        else:
+            limits.append(Limit(n, draw(positive), draw(st.just("layout file") | names),
+                                places, draw(st.sampled_from([None, "exposure", "immunity",
+                                                              "target"])),
+                                draw(st.sampled_from([None, "ac", "dc"]))))
+    return Layout(draw(st.text(st.characters(codec="utf-8"), max_size=20)), frequency,
                   tuple(trays), tuple(c for c, _ in circs), tuple(conductors), tuple(points),
-                  tuple(lines), tuple(limits))
+                  tuple(lines), tuple(limits), areas=tuple(areas))
 
 
 @SETTINGS
@@ -188,9 +210,11 @@ def test_random_bytes_give_only_layout_errors(fuzz_dir, blob):
 
 KEYS = ["name", "x_mm", "y_mm", "width_mm", "depth_mm", "system", "current_a", "circuit",
         "phase", "diameter_mm", "harmonics", "fixed", "tray", "samples", "ut", "format",
-        "title", "frequency_hz", "x0_mm", "material", "bogus", '"quoted key"', "a.b"]
+        "title", "frequency_hz", "x0_mm", "material", "bogus", '"quoted key"', "a.b",
+        "places", "library", "kind", "band", "y1_mm"]
 VALUES = st.one_of(
     st.sampled_from(['"F1"', '"L1"', '"ac3"', '"signal"', '"trayadvisor/1"', "true", "nan",
+                     '["F1", "x"]', '"icnirp-2010-public"', '"dc"', '"exposure"',
                      "-inf", "0", "-1", "1e400", "[1, 2]", "{ 3 = 0.1 }", "{ x = 1 }",
                      "1979-05-27", '"""a\nb"""', "'''x'''", "[\n1,\n]", '"a\\"b"', "{}",
                      "1" + "0" * 400, "{ 3 = 1" + "0" * 400 + " }"]),
@@ -199,13 +223,14 @@ VALUES = st.one_of(
         lambda s: '"' + s.replace("\\", "").replace('"', "") + '"'),
 )
 HEADERS = ["[[tray]]", "[[circuit]]", "[[conductor]]", "[[point]]", "[[line]]", "[[limit]]",
+           "[[area]]",
            "[circuit.harmonics]", "[settings]", "[[conductor.x]]", "[tray]"]
 key_value = st.tuples(st.sampled_from(KEYS), VALUES).map(lambda kv: f"{kv[0]} = {kv[1]}")
 toml_lines = st.one_of(st.sampled_from(HEADERS), key_value, key_value, key_value,
                        st.sampled_from(["", "# comment"]), st.text(max_size=12))
 table_body = st.lists(st.sampled_from(KEYS), max_size=8, unique=True).flatmap(
     lambda keys: st.tuples(*[VALUES.map(lambda v, k=k: f"{k} = {v}") for k in keys]))
-blocks = st.tuples(st.sampled_from(HEADERS[:6]) | st.sampled_from(HEADERS), table_body)
+blocks = st.tuples(st.sampled_from(HEADERS[:7]) | st.sampled_from(HEADERS), table_body)
 
 
 @SETTINGS

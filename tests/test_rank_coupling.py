@@ -17,9 +17,30 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
 
 
-def rank_json(capsys, *argv: str) -> dict:
-    assert main(["rank", *argv, "--json"]) == 0
+def rank_json(capsys, *argv: str, objective: str = "contour") -> dict:
+    """``rank --json``; the demo binds limits to places, so its default objective is the
+    worst limit index: these tests compare µT on the contour unless told otherwise."""
+    assert main(["rank", *argv, "--objective", objective, "--json"]) == 0
     return json.loads(capsys.readouterr().out)
+
+
+def test_limits_objective_scores_equal_the_place_indices_of_field(capsys):
+    lay = read_layout(DEMO)
+    assert main(["rank", str(DEMO), "--top", "3", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["unit"] == "index" and data["baseline_uT"] is None
+
+    def worst(layout) -> float:
+        # the same figures `field` reports: the largest index of any place-bound limit
+        s = field_summary(layout, distance_mm=500.0)
+        return max(q.index for p in s.places for q in p.limits)
+
+    assert data["baseline"] == pytest.approx(worst(lay), rel=1e-9)
+    values = [opt["value"] for opt in data["options"]]
+    assert values == sorted(values) and values[0] < data["baseline"]
+    for opt in data["options"]:
+        assert opt["value"] == pytest.approx(worst(applied(lay, opt)), rel=1e-6)
+        assert opt["versus_now"] == "better" and opt["max_resultant_uT"] is None
 
 
 def applied(layout, option: dict):

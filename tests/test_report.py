@@ -17,6 +17,7 @@ from trayadvisor.coupling import solved_sources
 from trayadvisor.engine import stray_uT
 from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.layoutfile.reader import read_layout
+from trayadvisor.limits import find
 from trayadvisor.output import CAUTIONS
 from trayadvisor.output.content import num
 from trayadvisor.output.pictures import log_levels, spread_labels, to_svg
@@ -118,8 +119,10 @@ def test_field_numbers_equal_cli_json(html_report, capsys):
     cli = cli_json(capsys, "field", str(DEMO))
     rep = embedded(root)["field"]
     for key in cli:
-        if key != "limits":
+        if key not in ("limits", "notes"):
             assert rep[key] == cli[key], key
+    # the report also judges the library's levels, which may add notes of their own
+    assert set(cli["notes"]) <= set(rep["notes"])
     by_name = {x["name"]: x for x in rep["limits"]}
     for lim in cli["limits"]:
         assert by_name[lim["name"]] == lim
@@ -148,8 +151,16 @@ def test_library_limits_and_recalled_flags_shown(html_report):
     _, root = html_report
     rows = {tr[0].text: tr for tr in table(root, "limits-table")}
     assert rows["IEC 61000-4-8 level 1"][3].text == "RECALLED"
-    assert rows["ICNIRP 2010 general public"][3].text == "checked"
-    assert rows["quiet-room target"][3].text == "layout"
+    # ICNIRP 2010 is checked at its plateau only; the other pieces are recalled
+    assert rows["ICNIRP 2010 general public"][3].text == "RECALLED"
+    assert not find("ICNIRP 2010 general public").checked
+    assert rows["plant-room workers"][3].text == "layout"
+    # the place-bound target is judged at its room, in the places table, as a target
+    places = table(root, "places-table")
+    target = [r for r in places if r[3].text == "quiet-room target"][0]
+    assert target[4].text == "project target" and target[9].text == "FAIL"
+    implants = [r for r in places if r[3].text == "implant wearers"][0]
+    assert implants[4].text == "exposure (people)" and implants[5].text == "DC"
 
 
 def test_coupling_tables_equal_couple_json(html_report, capsys):
@@ -172,9 +183,9 @@ def test_rank_numbers_equal_the_ranking(html_report):
     for key in ("method", "evaluated", "distinct", "baseline_uT", "options"):
         assert rep[key] == core[key], key
     rows = table(root, "rank-table")
-    assert float(rows[0][1].get("data-value")) == core["baseline_uT"]
+    assert float(rows[0][1].get("data-value")) == core["baseline"]
     assert [float(r[1].get("data-value")) for r in rows[1:]] == [
-        o["max_resultant_uT"] for o in core["options"]]
+        o["value"] for o in core["options"]]
     assert [r[2].text for r in rows[1:]] == [num(o["reduction_pct"], 3) for o in core["options"]]
 
 
@@ -219,8 +230,8 @@ def test_markdown_with_pictures_beside_it(tmp_path, capsys):
         assert para in text
     block = re.search(r"```json\n(.*?)\n```", text, re.S).group(1)
     rep, cli = json.loads(block)["field"], cli_json(capsys, "field", str(DEMO))
-    assert {k: v for k, v in rep.items() if k != "limits"} == {
-        k: v for k, v in cli.items() if k != "limits"}
+    assert {k: v for k, v in rep.items() if k not in ("limits", "notes")} == {
+        k: v for k, v in cli.items() if k not in ("limits", "notes")}
     assert cli["limits"][0] in rep["limits"]
 
 

@@ -174,7 +174,11 @@ def _run_pool(job: Job, files: list[str], results: list[FileResult | None], done
 # -- the jobs of field and rank, and the summary CSV --------------------------------------
 FIELD_COLUMNS: tuple[str, ...] = (
     "file", "status", "error", "distance_mm", "max_resultant_uT", "max_at_x_mm", "max_at_y_mm",
-    "far_field_order", "far_field_uT_at_1m", "points", "limits", "limits_failed")
+    "far_field_order", "far_field_uT_at_1m", "points", "limits", "limits_failed", "dc_max_uT",
+    "place_limits_failed")
+#: Prefix of the per-file columns of ``field``: one per place-bound limit and place, holding
+#: that limit's index there (``index:LIMIT@PLACE``; pass = index <= 1).
+INDEX_PREFIX = "index:"
 RANK_COLUMNS: tuple[str, ...] = (
     "file", "status", "error", "method", "evaluated", "baseline_uT", "best_uT", "reduction_pct")
 
@@ -190,8 +194,19 @@ def field_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
            "max_at_x_mm": data["max_at_mm"][0], "max_at_y_mm": data["max_at_mm"][1],
            "far_field_order": data["far_field_order"],
            "far_field_uT_at_1m": data["far_field_uT_at_1m"], "points": len(data["points"]),
-           "limits": len(lims), "limits_failed": sum(1 for x in lims if not x["pass"])}
+           "limits": len(lims), "limits_failed": sum(1 for x in lims if not x["pass"]),
+           "dc_max_uT": data["dc_max_uT"], "place_limits_failed": 0}
+    for place in data["places"]:
+        for q in place["limits"]:
+            row[f"{INDEX_PREFIX}{_cell_text(q['name'])}@{_cell_text(place['name'])}"] = \
+                q["index"]
+            row["place_limits_failed"] += 0 if q["passes"] else 1
     return row, data
+
+
+def _cell_text(text: str) -> str:
+    """A name from a file as plain text for a CSV header (no control characters)."""
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in str(text))
 
 
 def rank_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
@@ -215,7 +230,15 @@ JOBS: dict[str, tuple[Callable[..., tuple[dict, dict]], tuple[str, ...]]] = {
 
 
 def summary_csv(results: Sequence[FileResult], columns: tuple[str, ...]) -> str:
-    """The summary CSV: a header, then one row per file (floats in full precision)."""
+    """The summary CSV: a header, then one row per file (floats in full precision).
+
+    Row keys that start with :data:`INDEX_PREFIX` become further columns, in the order first
+    seen (a file without that limit or place leaves the cell empty).
+    """
+    extra: dict[str, None] = {}
+    for r in results:
+        extra.update((k, None) for k in r.row if k.startswith(INDEX_PREFIX))
+    columns = tuple(columns) + tuple(k for k in extra if k not in columns)
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(columns)

@@ -126,15 +126,37 @@ class ObservationLine:
 
 
 @dataclass(frozen=True)
-class Limit:
-    """A named field limit in µT (user-defined in the layout, or from the library).
+class ObservationArea:
+    """A named rectangle of the cross-section (a room, a cabinet, a work zone), mm.
 
-    The layout file writes the value as the key ``ut``.
+    Its corners are (x0, y0) lower left and (x1, y1) upper right; it holds no conductor.
     """
 
     name: str
-    value_uT: float
+    x0_mm: float
+    y0_mm: float
+    x1_mm: float
+    y1_mm: float
+
+
+@dataclass(frozen=True)
+class Limit:
+    """A named field limit: a level in µT or a library entry, where and how it judges.
+
+    The layout file writes the value as the key ``ut``. ``library`` names an entry of the
+    limits library instead of a value. ``places`` names the points, lines and areas it
+    applies at (empty: the curve at distance d). ``kind`` ("exposure", "immunity",
+    "target") and ``band`` ("ac", "dc") are None when the file leaves them out: a library
+    entry's own, else "target" and "ac" (:func:`trayadvisor.limits.resolve_limit`).
+    """
+
+    name: str
+    value_uT: float | None = None
     source: str = "layout file"
+    places: tuple[str, ...] = ()
+    kind: str | None = None
+    band: str | None = None
+    library: str | None = None
 
 
 @dataclass(frozen=True)
@@ -149,6 +171,7 @@ class Layout:
     points: tuple[ObservationPoint, ...] = ()
     lines: tuple[ObservationLine, ...] = ()
     limits: tuple[Limit, ...] = ()
+    areas: tuple[ObservationArea, ...] = ()
     earth_y_mm: float | None = None  # height of an earth reference plane (coupling), mm
 
     # -- look-ups -------------------------------------------------------------------------
@@ -177,6 +200,20 @@ class Layout:
         for p in self.points:
             if p.name == name:
                 return p
+        raise KeyError(name)
+
+    def area(self, name: str) -> ObservationArea:
+        for a in self.areas:
+            if a.name == name:
+                return a
+        raise KeyError(name)
+
+    def place(self, name: str) -> ObservationPoint | ObservationLine | ObservationArea:
+        """The point, line or area called ``name`` (KeyError if none)."""
+        for group in (self.points, self.lines, self.areas):
+            for p in group:
+                if p.name == name:
+                    return p
         raise KeyError(name)
 
     # -- geometry -------------------------------------------------------------------------

@@ -3,12 +3,16 @@
 - :mod:`~trayadvisor.analysis.summary` — ``field_summary(layout, distance_mm=…, at=…,
   limits=…, sharing=…)``: the stray field at d, where it peaks, far-field decay, points,
   lines and limits with clearances; the currents are equal shares or the solved sharing.
+- :mod:`~trayadvisor.analysis.judging` — limits judged where they apply: every point, line
+  and area with its AC and DC maxima and the index of each limit bound to it.
 
 This layer sits above :mod:`trayadvisor.coupling` because the solved currents come from its
 impedance system; the CLI, the TUI, batch runs and reports all call it with the same keyword
 arguments.
 """
 
+from trayadvisor.analysis.judging import PlaceFigure, PlaceLimit, margin_db, rule_measure
 from trayadvisor.analysis.summary import FieldSummary, LimitFigure, carried_sources, field_summary
 
-__all__ = ["FieldSummary", "LimitFigure", "carried_sources", "field_summary"]
+__all__ = ["FieldSummary", "LimitFigure", "PlaceFigure", "PlaceLimit", "carried_sources",
+           "field_summary", "margin_db", "rule_measure"]

@@ -5,16 +5,27 @@ points, limits, which currents flow) and returns every figure ``field`` prints, 
 ends cannot disagree. Millimetres and µT at this boundary. The currents are the solved
 sharing of parallel conductors by default (:func:`trayadvisor.coupling.carried_sources`),
 or equal shares.
+
+Every AC figure (the stray field, points, lines, places, far field, profile, clearances) is
+the fundamental and its harmonics only; the static (DC) field is reported beside it
+(``dc_max_uT``, ``dc_uT``) and judged only by DC-band limits (:mod:`.judging`).
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
+from trayadvisor.analysis.judging import (
+    PlaceFigure,
+    curve_verdict,
+    margin_db,
+    outside_notes,
+    place_figures,
+)
 from trayadvisor.coupling import (
     DEFAULT_TEMPERATURE_C,
     carried_sources,
@@ -26,26 +37,34 @@ from trayadvisor.engine import (
     DEFAULT_DISTANCE_MM,
     LineFigure,
     PointFigure,
-    clearance,
     envelope_m,
     far_field,
     line_figure,
     point_figures,
+    split_bands,
     stray_field,
 )
 from trayadvisor.engine.units import MM, UT
-from trayadvisor.model import Layout
+from trayadvisor.limits import resolve_limit
+from trayadvisor.model import Layout, Limit
 
 
 @dataclass(frozen=True)
 class LimitFigure:
-    """One limit's verdict at distance d and its clearance distance."""
+    """One limit's verdict on the curve at distance d and its clearance distance."""
 
     name: str
     limit_uT: float
     source: str
     clearance_mm: float  # inf when still above the limit at 100 m
-    passes: bool  # stray field at the chosen distance is at or below the limit
+    passes: bool  # the index on the curve at the chosen distance is at most 1
+    kind: str = "target"  # "exposure" | "immunity" | "target"
+    band: str = "ac"  # "ac" | "dc"
+    index: float = 0.0  # see trayadvisor.limits.Rule
+
+    @property
+    def margin_db(self) -> float:
+        return margin_db(self.index)
 
 
 @dataclass(frozen=True)
@@ -78,6 +97,8 @@ class FieldSummary:
     conductor_currents: tuple[ConductorCurrent, ...] = ()
     notes: tuple[str, ...] = ()
     temperature_c: float | None = None  # conductor temperature of R' (solved sharing only)
+    dc_max_uT: float = 0.0  # the static field's maximum on the curve at d
+    places: tuple[PlaceFigure, ...] = ()  # every point, line and area with its limits
 
     def to_json(self) -> dict:
         """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
@@ -89,14 +110,15 @@ class FieldSummary:
             "max_at_mm": [self.max_at_mm[0], self.max_at_mm[1]],
             "far_field_order": self.far_field_order,
             "far_field_uT_at_1m": self.far_field_uT_at_1m,
+            "dc_max_uT": self.dc_max_uT,
             "points": [
                 {"name": p.name, "x_mm": p.x_mm, "y_mm": p.y_mm,
-                 "resultant_uT": p.resultant_uT, "max_uT": p.max_uT}
+                 "resultant_uT": p.resultant_uT, "max_uT": p.max_uT, "dc_uT": p.dc_uT}
                 for p in self.points
             ],
             "named_points": [
                 {"name": p.name, "x_mm": p.x_mm, "y_mm": p.y_mm,
-                 "resultant_uT": p.resultant_uT, "max_uT": p.max_uT}
+                 "resultant_uT": p.resultant_uT, "max_uT": p.max_uT, "dc_uT": p.dc_uT}
                 for p in self.named_points
             ],
             "lines": [
@@ -105,10 +127,24 @@ class FieldSummary:
                 for ln in self.lines
             ],
             "limits": [
-                {"name": lim.name, "limit_uT": lim.limit_uT, "source": lim.source,
+                {"name": lim.name, "kind": lim.kind, "band": lim.band,
+                 "limit_uT": lim.limit_uT, "source": lim.source, "index": lim.index,
+                 "margin_db": _finite_or_none(lim.margin_db),
                  "clearance_mm": None if math.isinf(lim.clearance_mm) else lim.clearance_mm,
-                 "pass": lim.passes}
+                 "pass": lim.passes, "passes": lim.passes}
                 for lim in self.limits
+            ],
+            "places": [
+                {"name": p.name, "type": p.type, "max_resultant_uT": p.max_resultant_uT,
+                 "at_mm": list(p.at_mm), "dc_max_uT": p.dc_max_uT,
+                 "dc_at_mm": list(p.dc_at_mm),
+                 "limits": [
+                     {"name": q.name, "kind": q.kind, "band": q.band, "limit_uT": q.limit_uT,
+                      "index": q.index, "passes": q.passes,
+                      "margin_db": _finite_or_none(q.margin_db), "at_mm": list(q.at_mm),
+                      "rule": q.rule, "source": q.source}
+                     for q in p.limits]}
+                for p in self.places
             ],
             "conductor_currents": [
                 {"name": c.name, "order": c.order, "current_a": c.current_a,
@@ -124,7 +160,7 @@ def field_summary(
     *,
     distance_mm: float = DEFAULT_DISTANCE_MM,
     at: Sequence[tuple[float, float]] = (),
-    limits: Iterable[tuple[str, float, str]] = (),
+    limits: Iterable[tuple[str, float, str] | Limit] = (),
     currents: str = "solved",
     temperature_c: float = DEFAULT_TEMPERATURE_C,
 ) -> FieldSummary:
@@ -137,8 +173,9 @@ def field_summary(
         Distance d outside the tray envelope for the stray field, mm (>= 0).
     at : sequence of (x_mm, y_mm)
         Extra points to report; the layout's named points are always reported.
-    limits : iterable of (name, µT, source)
-        Limits to test, in addition to the layout's own ``[[limit]]`` entries.
+    limits : iterable of (name, µT, source) or Limit
+        Limits to test on the curve at d (their ``places`` are ignored), in addition to the
+        layout's own ``[[limit]]`` entries (judged at their places, or on the curve).
     currents : {"solved", "equal"}
         The solved current sharing between parallel conductors (the default), or equal
         shares.
@@ -155,6 +192,7 @@ def field_summary(
         For a ``distance_mm`` that is negative or not finite, an unknown ``currents`` or a
         ``temperature_c`` outside :data:`trayadvisor.coupling.TEMPERATURE_RANGE_C` (the
         message names the parameter).
+        Also for a limit that :func:`trayadvisor.limits.resolve_limit` refuses.
     trayadvisor.coupling.SharingError
         When the sharing of some parallel conductors has no solution (naming them).
     """
@@ -169,20 +207,38 @@ def field_summary(
         src, notes = shares.sources, tuple(shares.notes())
     else:
         src, notes = carried_sources(layout, "equal"), ()
+    ac, dc = split_bands(src)
     env = envelope_m(layout)
-    sf = stray_field(src.xy_m, src.radius_m, src.currents, env, distance_mm * MM)
-    ff = far_field(src.xy_m, src.currents)
-    points = point_figures(src, [(f"at{i + 1}", float(x), float(y))
-                                 for i, (x, y) in enumerate(at)])
-    named = point_figures(src, [(p.name, p.x_mm, p.y_mm) for p in layout.points])
-    lines = tuple(line_figure(src, ln) for ln in layout.lines)
+    d_m = distance_mm * MM
+    sf = stray_field(ac.xy_m, ac.radius_m, ac.currents, env, d_m)
+    dc_max = stray_field(dc.xy_m, dc.radius_m, dc.currents, env, d_m).max_T * UT
+    ff = far_field(ac.xy_m, ac.currents)
+    at_xy = [(f"at{i + 1}", float(x), float(y)) for i, (x, y) in enumerate(at)]
+    named_xy = [(p.name, p.x_mm, p.y_mm) for p in layout.points]
+    points = _with_dc(point_figures(ac, at_xy), point_figures(dc, at_xy))
+    named = _with_dc(point_figures(ac, named_xy), point_figures(dc, named_xy))
+    lines = tuple(line_figure(ac, ln) for ln in layout.lines)
     stray = sf.max_T * UT
-    lims = [(lim.name, lim.value_uT, lim.source) for lim in layout.limits] + list(limits)
+    f = float(layout.frequency_hz)
+    rules = [resolve_limit(lim, f) for lim in layout.limits]
+    extra = [lim if isinstance(lim, Limit) else Limit(lim[0], float(lim[1]), lim[2])
+             for lim in limits]
+    curve_rules = [r for r in rules if not r.places] + [
+        replace(resolve_limit(lim, f), places=()) for lim in extra]
+    notes = list(notes)
     figures = []
-    for name, value_uT, source in lims:
-        clr = clearance(src.xy_m, src.radius_m, src.currents, env, value_uT / UT) / MM
-        figures.append(LimitFigure(name, float(value_uT), source, float(clr),
-                                   stray <= value_uT))
+    for rule in curve_rules:
+        band_src, band_stray = (ac, stray) if rule.band == "ac" else (dc, dc_max)
+        v = curve_verdict(layout, rule, band_src, distance_mm, band_stray)
+        notes += outside_notes(rule.name, v.outside_hz, rule)
+        figures.append(LimitFigure(rule.name, float(rule.limit_uT), rule.source,
+                                   v.clearance_mm, v.index <= 1.0, rule.kind, rule.band,
+                                   v.index))
+    places = place_figures(layout, ac, dc, [r for r in rules if r.places])
+    for p in places:
+        for q in p.limits:
+            rule = next(r for r in rules if r.name == q.name)
+            notes += [n for n in outside_notes(q.name, q.outside_hz, rule) if n not in notes]
     return FieldSummary(
         distance_mm=float(distance_mm),
         max_resultant_uT=float(stray),
@@ -196,14 +252,26 @@ def field_summary(
         profile_s_mm=sf.s_m / MM,
         profile_uT=sf.resultant_T * UT,
         profile_xy_mm=sf.xy_m / MM,
+        dc_max_uT=float(dc_max),
+        places=places,
         currents=currents,
         conductor_currents=tuple(
             ConductorCurrent(name, int(h), float(abs(v)), _angle_deg(v))
             for k, h in enumerate(src.orders)
             for name, v in zip(src.names, src.currents[k], strict=True)),
-        notes=notes,
+        notes=tuple(notes),
         temperature_c=temperature_c if currents == "solved" else None,
     )
+
+
+def _with_dc(ac: tuple[PointFigure, ...], dc: tuple[PointFigure, ...]
+             ) -> tuple[PointFigure, ...]:
+    """AC point figures with the static field of the same points beside them."""
+    return tuple(replace(a, dc_uT=d.resultant_uT) for a, d in zip(ac, dc, strict=True))
+
+
+def _finite_or_none(v: float) -> float | None:
+    return v if math.isfinite(v) else None
 
 
 def _angle_deg(v: complex) -> float:

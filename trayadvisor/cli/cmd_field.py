@@ -19,7 +19,7 @@ from trayadvisor.cli.common import (
 )
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
 from trayadvisor.model import Layout
-from trayadvisor.output import CAUTION_LINE, decay_text, fmt_mm, fmt_uT
+from trayadvisor.output import CAUTION_LINE, decay_text, fmt_mm, fmt_uT, plain
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -62,33 +62,59 @@ def options(args: argparse.Namespace) -> dict:
     }
 
 
+def _verdict(index: float) -> str:
+    return "pass" if index <= 1.0 else "FAIL"
+
+
+def _db(margin_db: float) -> str:
+    return "inf" if margin_db == float("inf") else f"{margin_db:+.1f}"
+
+
 def render(path: str, layout: Layout, s: FieldSummary) -> str:
     order = decay_text(s.far_field_order)
     rows = [
-        f"{path}: {layout.title or '(untitled)'}",
+        f"{plain(path)}: {plain(layout.title) or '(untitled)'}",
         f"  stray field at {s.distance_mm:g} mm: {fmt_uT(s.max_resultant_uT)} µT "
-        f"(resultant RMS), peak at x={s.max_at_mm[0]:.0f} mm, y={s.max_at_mm[1]:.0f} mm",
+        f"(AC resultant RMS), peak at x={s.max_at_mm[0]:.0f} mm, y={s.max_at_mm[1]:.0f} mm",
         f"  far field falls as {order}; {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m "
         f"by the leading term",
     ]
+    if s.dc_max_uT > 0:
+        rows.append(f"  static (DC) field at {s.distance_mm:g} mm: {fmt_uT(s.dc_max_uT)} µT "
+                    "(judged only by DC limits)")
     pts = s.points + s.named_points
     if pts:
-        rows.append(f"  {'point':<14}{'x mm':>9}{'y mm':>9}{'resultant µT':>14}{'max µT':>10}")
+        dc = any(p.dc_uT > 0 for p in pts)
+        rows.append(f"  {'point':<14}{'x mm':>9}{'y mm':>9}{'resultant µT':>14}{'max µT':>10}"
+                    + (f"{'DC µT':>10}" if dc else ""))
         for p in pts:
-            rows.append(f"  {p.name:<14}{p.x_mm:>9.0f}{p.y_mm:>9.0f}"
-                        f"{fmt_uT(p.resultant_uT):>14}{fmt_uT(p.max_uT):>10}")
+            rows.append(f"  {plain(p.name)[:13]:<14}{p.x_mm:>9.0f}{p.y_mm:>9.0f}"
+                        f"{fmt_uT(p.resultant_uT):>14}{fmt_uT(p.max_uT):>10}"
+                        + (f"{fmt_uT(p.dc_uT):>10}" if dc else ""))
     for ln in s.lines:
-        rows.append(f"  line {ln.name}: up to {fmt_uT(ln.max_resultant_uT)} µT at "
+        rows.append(f"  line {plain(ln.name)}: up to {fmt_uT(ln.max_resultant_uT)} µT at "
                     f"x={ln.max_at_mm[0]:.0f} mm, y={ln.max_at_mm[1]:.0f} mm")
+    for p in s.places:  # areas always; points and lines (listed above) when limits judge them
+        if p.type == "area" or p.limits:
+            dc = f"; DC {fmt_uT(p.dc_max_uT)} µT" if p.dc_max_uT > 0 else ""
+            rows.append(f"  {p.type} {plain(p.name)}: up to {fmt_uT(p.max_resultant_uT)} µT "
+                        f"AC at x={p.at_mm[0]:.0f} mm, y={p.at_mm[1]:.0f} mm{dc}")
+        for q in p.limits:
+            rows.append(f"    {_verdict(q.index)} {plain(q.name)} ({q.kind}, "
+                        f"{q.band.upper()}): index {q.index:.3g}, margin "
+                        f"{_db(q.margin_db)} dB, worst at x={q.at_mm[0]:.0f} mm, "
+                        f"y={q.at_mm[1]:.0f} mm")
     if s.limits:
-        rows.append(f"  {'limit':<28}{'µT':>8}  {'clearance':>14}  at {s.distance_mm:g} mm")
+        rows.append(f"  {'limit on the curve':<26}{'kind':>10}{'µT':>8}{'index':>8}"
+                    f"{'dB':>7}  {'clearance':>10}  at {s.distance_mm:g} mm")
         for lim in s.limits:
-            verdict = "pass" if lim.passes else "FAIL"
-            rows.append(f"  {lim.name[:27]:<28}{fmt_uT(lim.limit_uT):>8}  "
-                        f"{fmt_mm(lim.clearance_mm):>14}  {verdict}")
+            kind = lim.kind + (" DC" if lim.band == "dc" else "")
+            rows.append(f"  {plain(lim.name)[:25]:<26}{kind:>10}{fmt_uT(lim.limit_uT):>8}"
+                        f"{lim.index:>8.3g}{_db(lim.margin_db):>7}  "
+                        f"{fmt_mm(lim.clearance_mm):>10}  {_verdict(lim.index)}")
     rows.append("  currents: " + ("solved sharing between parallel conductors"
                                   if s.currents == "solved" else "equal shares (--equal-shares)"))
-    rows += [f"  note: {n}" for n in s.notes]
+    rows += [f"  note: {plain(n)}" for n in s.notes]
     rows.append(CAUTION_LINE)
     return "\n".join(rows)
 

@@ -5,7 +5,8 @@ from __future__ import annotations
 import argparse
 
 from trayadvisor.cli.common import load, positive, print_json
-from trayadvisor.limits import LIBRARY, LibraryLimit
+from trayadvisor.limits import LIBRARY, LibraryLimit, resolve_limit
+from trayadvisor.output import plain
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -19,17 +20,28 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def _value(lim: LibraryLimit, f: float) -> float | None:
+    f = 0.0 if lim.band == "dc" else f
     return lim.value_uT(f) if lim.valid_at(f) else None
 
 
 def _row(lim: LibraryLimit, f: float | None) -> dict:
-    row = {"name": lim.name, "formula_uT": lim.formula(), "f_min_hz": lim.f_min_hz,
-           "f_max_hz": lim.f_max_hz, "uT_at_50hz": _value(lim, 50.0),
-           "uT_at_60hz": _value(lim, 60.0), "source": lim.source, "checked": lim.checked,
-           "note": lim.note}
+    row = {"id": lim.id, "name": lim.name, "kind": lim.kind, "band": lim.band,
+           "formula_uT": lim.formula(), "formulas": lim.formulas(),
+           "pieces": [{"f_lo_hz": p.f_lo, "f_hi_hz": p.f_hi, "k_uT": p.k_uT,
+                       "power": p.power} for p in lim.pieces],
+           "f_min_hz": lim.f_min_hz, "f_max_hz": lim.f_max_hz,
+           "uT_at_50hz": _value(lim, 50.0), "uT_at_60hz": _value(lim, 60.0),
+           "source": lim.source, "checked": lim.checked, "note": lim.note}
     if f is not None:
-        row["uT"] = lim.value_uT(f)
+        row["uT"] = _value(lim, f)
     return row
+
+
+def _shown(lim: LibraryLimit, f: float | None) -> bool:
+    return f is None or lim.band == "dc" or lim.valid_at(f)
+
+
+_KIND_WORDS = {"exposure": "people", "immunity": "equipment", "target": "project target"}
 
 
 def _cell(v: float | str | None) -> str:
@@ -47,26 +59,37 @@ def run(args: argparse.Namespace) -> int:
         f = layout.frequency_hz
     if f is not None:
         positive("--frequency-hz", f)
-    rows = [_row(lim, f) for lim in LIBRARY if f is None or lim.valid_at(f)]
-    own = [{"name": lim.name, "uT": lim.value_uT, "source": lim.source}
-           for lim in (layout.limits if layout else ())]
+    rows = [_row(lim, f) for lim in LIBRARY if _shown(lim, f)]
+    own = []
+    for lim in (layout.limits if layout else ()):
+        rule = resolve_limit(lim, layout.frequency_hz)  # type: ignore[union-attr]
+        own.append({"name": lim.name, "uT": rule.limit_uT, "source": rule.source,
+                    "kind": rule.kind, "band": rule.band, "library": lim.library,
+                    "places": list(lim.places)})
     if args.json:
         print_json({"frequency_hz": f, "library": rows, "layout": own})
         return 0
     cols = [f"at {f:g} Hz"] if f is not None else ["µT", "50 Hz", "60 Hz"]
-    print(f"{'name':<28}" + "".join(f"{c:>9}" for c in cols) + f"  {'Hz':<8} value")
+    print(f"{'name':<30}" + "".join(f"{c:>9}" for c in cols) + f"  {'Hz':<10} value")
     for r in rows:
         vals = ([r["uT"]] if f is not None else [r["formula_uT"], r["uT_at_50hz"],
                                                  r["uT_at_60hz"]])
-        rng = f"{r['f_min_hz']:g}-{r['f_max_hz']:g}"
-        print(f"{r['name']:<28}" + "".join(f"{_cell(v):>9}" for v in vals)
-              + f"  {rng:<8} {'checked' if r['checked'] else 'RECALLED'}")
-        print(f"    {r['source']}")
+        rng = "static" if r["band"] == "dc" else f"{r['f_min_hz']:g}-{r['f_max_hz']:g}"
+        print(f"{r['name']:<30}" + "".join(f"{_cell(v):>9}" for v in vals)
+              + f"  {rng:<10} {'checked' if r['checked'] else 'RECALLED'}")
+        print(f"    id {r['id']}: {r['kind']} ({_KIND_WORDS[r['kind']]}), "
+              f"{r['band'].upper()}; {r['source']}")
+        if len(r["pieces"]) > 1:
+            print(f"    level: {r['formulas']}")
     for r in own:
         pad = "" if f is not None else " " * 18
-        print(f"{r['name'][:27]:<28}{_cell(r['uT']):>9}{pad}  {'layout':<8} -")
-        print(f"    {r['source']}")
+        where = ", ".join(r["places"]) if r["places"] else "the curve at distance d"
+        print(f"{plain(r['name'])[:29]:<30}{_cell(r['uT']):>9}{pad}  "
+              f"{'layout':<10} -")
+        print(f"    {r['kind']} ({_KIND_WORDS[r['kind']]}), {r['band'].upper()}, at "
+              f"{plain(where)}; {plain(r['source'])}")
     print("RECALLED: value not checked against the cited document; check your own copy.\n"
           "Levels are RMS flux density in µT; IEC 61000-4-8 levels are converted from A/m\n"
-          "with B = µ0·H. A field with harmonics needs the documents' multi-frequency rules.")
+          "with B = µ0·H. Exposure levels judge harmonics by the multi-frequency rule\n"
+          "(sum of B_h / level(f_h)); static (DC) levels judge only the DC field.")
     return 0

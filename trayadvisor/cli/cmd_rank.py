@@ -52,9 +52,12 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help="save the options: .csv, .json or .md by extension; with --apply a "
                    ".toml layout; batch runs: SUMMARY.csv")
     p.add_argument("--json", action="store_true", help="print the ranking as JSON")
-    p.add_argument("--objective", default=None, metavar="line:NAME|point:NAME",
-                   help="minimise the field on a named observation line or point instead of "
-                   "the contour at --distance-mm")
+    p.add_argument("--objective", default=None,
+                   metavar="limits|contour|line:NAME|point:NAME",
+                   help="what to minimise: the worst index of the limits bound to places "
+                   "(the default when the layout has such limits), the AC field on the "
+                   "contour at --distance-mm (the default otherwise), or on a named "
+                   "observation line or point")
     p.add_argument("--slots", default=None, metavar="|".join(SLOT_RULES),
                    help="candidate positions from a slot grid by this laying rule instead of "
                    "the places the conductors occupy now")
@@ -124,7 +127,7 @@ def options(args: argparse.Namespace) -> dict:
     opts = {
         "distance_mm": _float("--distance-mm", args.distance_mm),
         "top_k": _int("--top", args.top),
-        "objective": None if args.objective == "contour" else args.objective,
+        "objective": args.objective,
         "slots": args.slots,
         "bundles": bool(args.bundles),
         "budget_s": None if args.budget_s is None else _float("--budget-s", args.budget_s),
@@ -145,6 +148,17 @@ def options(args: argparse.Namespace) -> dict:
     return opts
 
 
+def _number(v: float, unit: str) -> str:
+    return fmt_uT(v) if unit == "µT" else f"{v:.4g}"
+
+
+def _value(v: float, unit: str) -> str:
+    """A ranking figure with its unit: '12.3 µT' or 'index 0.84 (pass)'."""
+    if unit == "µT":
+        return f"{fmt_uT(v)} µT"
+    return f"index {v:.4g} ({'pass' if v <= 1.0 else 'FAIL'}: worst place-bound limit)"
+
+
 def render(path: str, layout: Layout, r: RankResult) -> str:
     """The human-readable ranking: summary, options table, sketches now and of option 1."""
     done = f"{r.evaluated:,}" + (f" of {r.distinct:,} distinct" if r.distinct else "")
@@ -152,15 +166,19 @@ def render(path: str, layout: Layout, r: RankResult) -> str:
     rows = [f"{path}: {layout.title or '(untitled)'}",
             f"  objective: {r.objective}; {r.method}: {done} arrangements evaluated in "
             f"{r.elapsed_s:.1f} s{exact}",
-            f"  now (arrangement in the file): {fmt_uT(r.baseline_uT)} µT",
-            f"  {'rank':>4}  {'µT':>9}  {'reduction':>9}  {'dB':>6}  far field"]
+            f"  now (arrangement in the file): {_value(r.baseline_uT, r.unit)}",
+            f"  {'rank':>4}  {r.unit:>9}  {'reduction':>9}  {'dB':>6}  far field"]
     for o in r.options:
         db = fmt_fixed(o.reduction_db)
         figs = "".join(f"  {k} {v:.3g}" for k, v in o.figures.items())
-        rows.append(f"  {o.rank:>4}  {fmt_uT(o.max_resultant_uT):>9}  "
+        tags = ("  WORSE than now" if o.versus_now == "worse" else
+                "  same as now" if o.versus_now == "same" else "")
+        if o.same_as is not None:
+            tags += f"  equivalent to option {o.same_as}"
+        rows.append(f"  {o.rank:>4}  {_number(o.max_resultant_uT, r.unit):>9}  "
                     f"{fmt_fixed(o.reduction_pct):>7} %  {db:>6}  "
                     f"{decay_text(o.far_field_order, short=True, none='-')}"
-                    f"{figs}")
+                    f"{figs}{tags}")
     rows.append("  now:")
     rows += ["    " + ln for ln in sketch_text(layout, r.baseline_positions).splitlines()]
     if r.options:
@@ -275,7 +293,8 @@ def _write(out: str | None, apply: int | None, layout: Layout, result: RankResul
                             f"({err.message})") from None
             write_layout(new, out)
             print(f"wrote {out}: {path} with option {apply} "
-                  f"({fmt_uT(opt.max_resultant_uT)} µT, {fmt_fixed(opt.reduction_pct)} % lower)",
+                  f"({_value(opt.max_resultant_uT, result.unit)}, "
+                  f"{fmt_fixed(opt.reduction_pct)} % lower)",
                   file=stream)
             return
         fmt = write_result(result, out, layout, layout.title)

@@ -8,8 +8,10 @@
   field (IEC 61786-1), far-field decay order from the multipole moments.
 - :mod:`~trayadvisor.engine.contour` — the curve at distance d around the tray envelope, its
   refined maximum, and the clearance distance for a limit.
-- :mod:`~trayadvisor.engine.places` — the field of one layout at points, along lines, on
-  grids and on the curve at d, in mm and µT.
+- :mod:`~trayadvisor.engine.measures` — scalar figures of a multi-frequency field: the AC
+  or DC resultant, a limit's index; splitting sources into their AC and DC parts.
+- :mod:`~trayadvisor.engine.places` — the field of one layout at points, along lines, over
+  areas, on grids and on the curve at d, in mm and µT.
 
 The method is written up in ``docs/method.md``.
 """
@@ -32,14 +34,18 @@ from trayadvisor.engine.field import (
     resultant_rms,
     unit_field,
 )
+from trayadvisor.engine.measures import Measure, band_measure, carries, split_bands
 from trayadvisor.engine.places import (
     LineFigure,
+    Place,
     PointFigure,
     envelope_m,
     field_at_points_uT,
     field_grid_uT,
     line_figure,
     line_points_mm,
+    path_points_mm,
+    place_maxima,
     point_figures,
     stray_uT,
 )
@@ -48,6 +54,8 @@ __all__ = [
     "DEFAULT_DISTANCE_MM",
     "FarField",
     "LineFigure",
+    "Measure",
+    "Place",
     "PointFigure",
     "SourceArrays",
     "StrayField",
@@ -57,6 +65,8 @@ __all__ = [
     "default_samples",
     "ellipse_major_rms",
     "envelope_m",
+    "band_measure",
+    "carries",
     "far_field",
     "field_at_points_uT",
     "field_grid_uT",
@@ -65,7 +75,10 @@ __all__ = [
     "line_points_mm",
     "offset_points",
     "phasor_field",
+    "path_points_mm",
+    "place_maxima",
     "point_figures",
+    "split_bands",
     "resultant_rms",
     "stray_field",
     "stray_uT",

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trayadvisor.engine.field import phasor_field, resultant_rms
+from trayadvisor.engine.measures import Measure
 
 Envelope = tuple[float, float, float, float]  # (xmin, ymin, xmax, ymax), m
 
@@ -214,7 +215,8 @@ def refine_maximum(f: Callable[[np.ndarray], np.ndarray], s: np.ndarray, values:
 
 
 def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env: Envelope,
-                d: float, samples: int | None = None, refine: bool = True) -> StrayField:
+                d: float, samples: int | None = None, refine: bool = True,
+                measure: Measure | None = None) -> StrayField:
     """Maximum resultant RMS flux density on the curve at distance ``d`` outside ``env``.
 
     Parameters
@@ -234,6 +236,10 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
         :func:`default_samples`).
     refine : bool
         Locate the true maximum between the samples (:func:`refine_maximum`).
+    measure : Measure, optional
+        What is maximised (default: the resultant of every row of ``currents``, T); e.g. an
+        exposure index (:mod:`trayadvisor.engine.measures`). ``max_T`` and ``resultant_T``
+        are then in the measure's unit.
 
     Returns
     -------
@@ -254,10 +260,12 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
     s = np.arange(k) * (length / k)
     xy = offset_points(env, d, s)
 
-    def f(u: np.ndarray) -> np.ndarray:
-        return resultant_rms(phasor_field(src_xy, radius, currents, offset_points(env, d, u)))
+    fold = resultant_rms if measure is None else measure
 
-    values = resultant_rms(phasor_field(src_xy, radius, currents, xy))
+    def f(u: np.ndarray) -> np.ndarray:
+        return fold(phasor_field(src_xy, radius, currents, offset_points(env, d, u)))
+
+    values = fold(phasor_field(src_xy, radius, currents, xy))
     if refine and length > 0:
         s_max, v_max = refine_maximum(f, s, values, length, candidates=8)
     else:
@@ -268,7 +276,8 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
 
 
 def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env: Envelope,
-              limit_T: float, d_max: float = 100.0, rtol: float = 1e-4) -> float:
+              limit_T: float, d_max: float = 100.0, rtol: float = 1e-4,
+              measure: Measure | None = None) -> float:
     """Smallest distance beyond which the stray field stays below ``limit_T``.
 
     Parameters
@@ -281,6 +290,9 @@ def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env:
         Largest distance examined, m.
     rtol : float
         Relative accuracy of the returned distance.
+    measure : Measure, optional
+        What is compared with ``limit_T`` (default: the resultant, T); e.g. an exposure
+        index with ``limit_T = 1``.
 
     Returns
     -------
@@ -315,7 +327,7 @@ def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env:
     def peak(d: float) -> float:
         d = max(float(d), 0.0)
         if d not in cache:
-            cache[d] = stray_field(src_xy, radius, currents, env, d).max_T
+            cache[d] = stray_field(src_xy, radius, currents, env, d, measure=measure).max_T
         return cache[d]
 
     if peak(0.0) <= limit_T:

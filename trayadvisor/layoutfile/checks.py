@@ -15,6 +15,12 @@ import numpy as np
 
 from trayadvisor.layoutfile.errors import LayoutError, did_you_mean
 from trayadvisor.layoutfile.linemap import KeyPath, LineMap
+from trayadvisor.layoutfile.placechecks import (
+    area_geometry,
+    place_names,
+    place_references,
+    place_values,
+)
 from trayadvisor.layoutfile.schema import TABLES
 from trayadvisor.model import MATERIALS, PHASES, REQUIRED_PHASES, SYSTEMS, Layout
 
@@ -43,7 +49,8 @@ _NUMBERS: dict[str, dict[str, str]] = {
                   "current_a": "A >=0 ?", "angle_deg": "degrees ?"},
     "point": {"x_mm": "mm", "y_mm": "mm"},
     "line": {"x0_mm": "mm", "y0_mm": "mm", "x1_mm": "mm", "y1_mm": "mm"},
-    "limit": {"ut": "µT >0"},
+    "area": {"x0_mm": "mm", "y0_mm": "mm", "x1_mm": "mm", "y1_mm": "mm"},
+    "limit": {"ut": "µT >0 ?"},
 }
 
 
@@ -293,14 +300,18 @@ def layout_problems(layout: Layout, path: str = "<layout>",
     list of LayoutError
         Empty when the layout is valid. Stages, in order: values (finite, in range, known
         words), duplicate names, references (circuit, tray, phase, harmonics of dc),
-        geometry (inside trays, no overlap), circuits able to carry their current.
+        geometry (inside trays, no overlap, no conductor in an area), circuits able to carry
+        their current. The checks of places and place-bound limits are in
+        :mod:`trayadvisor.layoutfile.placechecks`.
     """
     ck = _Checks(layout, path, lines)
-    stages = (_stage_values, _stage_duplicates, _stage_references, _stage_geometry,
-              _stage_carrying)
-    for stage, run in enumerate(stages):
+    stages = ((_stage_values, place_values), (_stage_duplicates, place_names),
+              (_stage_references, place_references), (_stage_geometry, area_geometry),
+              (_stage_carrying,))
+    for stage, runs in enumerate(stages):
         ck.stage = stage
-        run(ck)
+        for run in runs:
+            run(ck)
     return [err for *_, err in sorted(ck.found, key=lambda f: f[:3])]
 
 

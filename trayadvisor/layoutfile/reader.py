@@ -74,6 +74,10 @@ def _convert(value: Any, typ: str, key: str, what: str) -> Any:
         except OverflowError:
             raise _Bad(f"{what}: {key} = {str(value)[:20]}... is too large; "
                        "give a realistic value") from None
+    if typ == "strs":
+        if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+            raise _Bad(wrong)
+        return tuple(value)
     if not isinstance(value, dict):  # harmonics
         raise _Bad(wrong)
     orders: dict[int, float] = {}
@@ -96,7 +100,8 @@ def _convert(value: Any, typ: str, key: str, what: str) -> Any:
 
 _TYPE_WORD = {"str": "a string in double quotes", "num": "a number",
               "int": "a whole number", "bool": "true or false",
-              "harm": "an inline table of harmonic order = fraction"}
+              "harm": "an inline table of harmonic order = fraction",
+              "strs": "an array of names in double quotes"}
 
 
 def _table(kind: str, i: int, raw: Any, lm: LineMap, errors: list[LayoutError],

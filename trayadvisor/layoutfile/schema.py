@@ -8,13 +8,22 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from trayadvisor.model import Circuit, Conductor, Limit, ObservationLine, ObservationPoint, Tray
+from trayadvisor.model import (
+    Circuit,
+    Conductor,
+    Limit,
+    ObservationArea,
+    ObservationLine,
+    ObservationPoint,
+    Tray,
+)
 
 #: The value of the ``format`` key this version reads and writes.
 FORMAT = "trayadvisor/1"
 
 #: (type, required) of one key. Types: "str", "num" (int or float, stored as float), "int",
-#: "bool", "harm" (an inline table of harmonic order = fraction).
+#: "bool", "harm" (an inline table of harmonic order = fraction), "strs" (an array of strings,
+#: stored as a tuple).
 KeySpec = tuple[str, bool]
 
 
@@ -50,8 +59,13 @@ TABLES: dict[str, Table] = {
     "line": Table(ObservationLine, "lines", {
         "name": ("str", True), "x0_mm": ("num", True), "y0_mm": ("num", True),
         "x1_mm": ("num", True), "y1_mm": ("num", True), "samples": ("int", False)}),
+    "area": Table(ObservationArea, "areas", {
+        "name": ("str", True), "x0_mm": ("num", True), "y0_mm": ("num", True),
+        "x1_mm": ("num", True), "y1_mm": ("num", True)}),
     "limit": Table(Limit, "limits", {
-        "name": ("str", True), "ut": ("num", True), "source": ("str", False)},
+        "name": ("str", True), "ut": ("num", False), "library": ("str", False),
+        "source": ("str", False), "kind": ("str", False), "band": ("str", False),
+        "places": ("strs", False)},
         fields={"ut": "value_uT"}),
 }
 
@@ -62,4 +76,4 @@ TOP: dict[str, KeySpec] = {"format": ("str", True), "title": ("str", False),
 TOP_LEVEL_NAMES: tuple[str, ...] = (*TOP, *TABLES)
 #: An example value of each type, for the hints in error messages.
 EXAMPLES: dict[str, str] = {"str": '"text"', "num": "1.0", "int": "101", "bool": "true",
-                            "harm": "{ 3 = 0.05, 5 = 0.20 }"}
+                            "harm": "{ 3 = 0.05, 5 = 0.20 }", "strs": '["QR-desk", "QR-wall"]'}

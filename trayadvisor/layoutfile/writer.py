@@ -37,6 +37,8 @@ def _toml_value(value: Any, typ: str) -> str:
         return str(int(value))
     if typ == "num":
         return repr(float(value))  # shortest text that reads back to the same float
+    if typ == "strs":
+        return "[" + ", ".join(_toml_str(v) for v in value) + "]"
     return "{ " + ", ".join(f"{int(h)} = {float(f)!r}" for h, f in value) + " }"
 
 

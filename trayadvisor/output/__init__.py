@@ -19,7 +19,7 @@ from trayadvisor.output.exports import ExportError, export_format, export_text, 
 from trayadvisor.output.jsontext import dumps, json_safe
 from trayadvisor.output.report import FORMATS as REPORT_FORMATS
 from trayadvisor.output.report import ReportError, write_report
-from trayadvisor.output.wording import decay_text, fmt_fixed, fmt_mm, fmt_uT
+from trayadvisor.output.wording import decay_text, fmt_fixed, fmt_mm, fmt_uT, plain
 
 __all__ = [
     "CAUTIONS",
@@ -37,6 +37,7 @@ __all__ = [
     "fmt_fixed",
     "fmt_uT",
     "json_safe",
+    "plain",
     "write_report",
     "write_result",
 ]

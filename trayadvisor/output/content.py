@@ -21,7 +21,7 @@ from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, carried_sources, couplin
 from trayadvisor.engine import DEFAULT_DISTANCE_MM, field_grid_uT, stray_uT
 from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
-from trayadvisor.model import Layout
+from trayadvisor.model import Layout, Limit
 from trayadvisor.output.jsontext import dumps
 from trayadvisor.output.pictures import (
     contours_svg,
@@ -35,10 +35,17 @@ from trayadvisor.ranking import rank_layout
 
 #: How library levels are compared; every report shows it beside the limits.
 LIMITS_NOTE = (
-    "Library levels are compared at the system frequency. A field with harmonics (or a DC "
-    "component) strictly needs the multi-frequency assessment the documents describe; the "
-    "resultant RMS field combines all components. Values marked 'recalled' were not checked "
-    "against the cited document: check them against your own copy."
+    "Every field here is AC (fundamental and harmonics); the static (DC) field is reported "
+    "beside it and judged only by DC levels. Exposure levels judge harmonics by the "
+    "multi-frequency rule (the sum of B_h / level(f_h) must not exceed 1); targets and "
+    "equipment-immunity levels judge the AC resultant. Values marked 'recalled' were not "
+    "checked against the cited document: check them against your own copy."
+)
+#: Beside the places table: what the kinds of limit mean.
+PLACES_NOTE = (
+    "Exposure levels are for people, immunity levels for equipment (never an exposure "
+    "limit), targets are the project's own. Index = worst value over the place; pass when "
+    "it is at most 1; margin = -20 log10(index) dB."
 )
 
 @dataclass(frozen=True)
@@ -117,7 +124,9 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
     library = library_at(f)
     summary = field_summary(layout, distance_mm=distance_mm, currents=currents,
                             temperature_c=temperature_c,
-                            limits=[(lim.name, ut, library_source(lim)) for lim, ut in library])
+                            limits=[Limit(lim.name, ut, library_source(lim), kind=lim.kind,
+                                          band=lim.band, library=lim.id)
+                                    for lim, ut in library])
     src = carried_sources(layout, currents, temperature_c)
     d = sweep_distances(summary)
     b = np.array([stray_uT(layout, float(x), src) for x in d])
@@ -165,11 +174,13 @@ def option_layouts(content: ReportContent) -> list[tuple[str, Layout]]:
     """(title, layout) of the current arrangement and each ranked option."""
     if not content.rank_json or not content.rank_json.get("options"):
         return []
-    base = content.rank_json.get("baseline_uT", content.summary.max_resultant_uT)
-    out = [(f"current  {base:.4g} µT", content.layout)]
+    base = content.rank_json.get("baseline", content.summary.max_resultant_uT)
+    unit = content.rank_json.get("unit", "µT")
+    fig = (lambda v: f"{v:.4g} µT") if unit == "µT" else (lambda v: f"index {v:.3g}")
+    out = [(f"current  {fig(base)}", content.layout)]
     for opt in content.rank_json["options"]:
         pos = {c["name"]: (c["x_mm"], c["y_mm"]) for c in opt["conductors"]}
-        out.append((f"#{opt['rank']}  {opt['max_resultant_uT']:.4g} µT",
+        out.append((f"#{opt['rank']}  {fig(opt['value'])}",
                     content.layout.with_positions(pos)))
     return out
 
@@ -232,20 +243,55 @@ def limit_rows(c: ReportContent) -> list[list[Cell | str]]:
     return rows
 
 
-RANK_HEADER = ["option", "max resultant at d (µT)", "reduction (%)", "reduction (dB)",
-               "far-field order"]
+def rank_header(c: ReportContent) -> list[str]:
+    """The ranking table's header: the objective's value is µT, or the worst limit index."""
+    unit = (c.rank_json or {}).get("unit", "µT")
+    value = ("max resultant at d (µT)" if unit == "µT"
+             else "worst index of the place-bound limits")
+    return ["option", value, "reduction (%)", "reduction (dB)", "far-field order",
+            "compared with now"]
 
 
 def rank_rows(c: ReportContent) -> list[list[Cell | str]]:
-    """The current arrangement, then each option, with the ranking's own figures."""
+    """The current arrangement, then each option, with the ranking's own figures; an option
+    worse than now, or equal to an earlier one, says so."""
     r = c.rank_json or {}
-    base = r.get("baseline_uT", c.summary.max_resultant_uT)
+    base = r.get("baseline", c.summary.max_resultant_uT)
     rows: list[list[Cell | str]] = [["current", _cell(base), "0", "0",
-                                     str(c.summary.far_field_order)]]
+                                     str(c.summary.far_field_order), ""]]
     for opt in r.get("options", []):
-        rows.append([f"#{opt['rank']}", _cell(opt["max_resultant_uT"]),
+        versus = {"worse": "WORSE than now", "same": "same as now"}.get(
+            opt.get("versus_now", ""), "better")
+        if opt.get("same_as"):
+            versus += f"; equivalent to #{opt['same_as']}"
+        rows.append([f"#{opt['rank']}", _cell(opt["value"]),
                      num(opt.get("reduction_pct"), 3), num(opt.get("reduction_db"), 3),
-                     str(opt.get("far_field_order"))])
+                     str(opt.get("far_field_order")), versus])
+    return rows
+
+
+PLACE_HEADER = ["place", "AC max (µT)", "DC max (µT)", "limit", "kind", "band", "level (µT)",
+                "index", "margin (dB)", "verdict"]
+
+
+def place_rows(c: ReportContent) -> list[list[Cell | str]]:
+    """Every point, line and area: its AC and DC maxima, then each limit bound to it with
+    its kind (people, equipment or the project's target), index and margin."""
+    rows: list[list[Cell | str]] = []
+    for p in c.summary.places:
+        if p.type != "area" and not p.limits:
+            continue
+        head: list[Cell | str] = [f"{p.type} {p.name}", _cell(p.max_resultant_uT),
+                                  _cell(p.dc_max_uT)]
+        if not p.limits:
+            rows.append(head + ["-"] * 7)
+        for q in p.limits:
+            kind = {"exposure": "exposure (people)", "immunity": "immunity (equipment)",
+                    "target": "project target"}[q.kind]
+            margin = "inf" if math.isinf(q.margin_db) else num(q.margin_db, 3)
+            rows.append(head + [q.name, kind, q.band.upper(), _cell(q.limit_uT),
+                                num(q.index, 4), margin, "pass" if q.passes else "FAIL"])
+            head = ["", "", ""]
     return rows
 
 

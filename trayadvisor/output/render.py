@@ -15,7 +15,8 @@ from trayadvisor import __version__
 from trayadvisor.output.cautions import CAUTIONS
 from trayadvisor.output.content import (
     LIMITS_NOTE,
-    RANK_HEADER,
+    PLACE_HEADER,
+    PLACES_NOTE,
     Cell,
     Picture,
     ReportContent,
@@ -23,6 +24,8 @@ from trayadvisor.output.content import (
     json_notes,
     json_tables,
     limit_rows,
+    place_rows,
+    rank_header,
     rank_rows,
     summary_rows,
 )
@@ -113,12 +116,16 @@ def render_html(c: ReportContent) -> str:
             *[f'<p class="note">{_e(n)}</p>' for n in c.limit_notes()],
             _table(["limit", "µT", "source", "value", "clearance (mm)",
                     f"at {s.distance_mm:g} mm"], limit_rows(c), "limits-table")]
+    if place_rows(c):
+        out += ['<p class="note">Limits bound to places, judged at the worst point of each '
+                "place (AC: fundamental and harmonics; DC: the static field). "
+                f"{_e(PLACES_NOTE)}</p>", _table(PLACE_HEADER, place_rows(c), "places-table")]
     if "distance" in pics:
         out.append(_figure(pics["distance"]))
     out += ["</section>", '<section id="ranking"><h2>Ranked options</h2>']
     if c.rank_json is not None:
         out.append(f'<p class="note">{_e(_rank_header(c))}</p>')
-        out.append(_table(RANK_HEADER, rank_rows(c), "rank-table"))
+        out.append(_table(rank_header(c), rank_rows(c), "rank-table"))
         if "options" in pics:
             out.append(_figure(pics["options"]))
     else:
@@ -183,11 +190,15 @@ def render_markdown(c: ReportContent, picture_files: dict[str, str]) -> str:
             *[f"{n}\n" for n in c.limit_notes()],
             _md_table(["limit", "µT", "source", "value", "clearance (mm)",
                        f"at {s.distance_mm:g} mm"], limit_rows(c)), ""]
+    if place_rows(c):
+        out += ["Limits bound to places, judged at the worst point of each place (AC: "
+                f"fundamental and harmonics; DC: the static field). {PLACES_NOTE}", "",
+                _md_table(PLACE_HEADER, place_rows(c)), ""]
     out += img("distance")
     out += ["## Ranked options", ""]
     if c.rank_json is not None:
         out += [_rank_header(c), "",
-                _md_table(RANK_HEADER, rank_rows(c)),
+                _md_table(rank_header(c), rank_rows(c)),
                 ""]
         out += img("options")
     else:

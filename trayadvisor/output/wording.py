@@ -54,3 +54,9 @@ def fmt_mm(v: float) -> str:
     if not math.isfinite(v):
         return "beyond 100 m"
     return f"{v:.0f} mm"
+
+
+def plain(text: str) -> str:
+    """Text from a file made safe for a terminal line: control and other non-printable
+    characters (escape sequences, newlines) shown as Python escapes."""
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in str(text))

@@ -137,11 +137,12 @@ def check_rank_options(*, distance_mm: float = DEFAULT_DISTANCE_MM, top_k: int =
         check_temperature(temperature_c)
     except ValueError as exc:
         raise RankError(str(exc), "temperature_c", temperature_c) from None
-    if objective is not None and objective != "contour":
+    if objective is not None and objective not in ("contour", "limits"):
         kind, _, name = str(objective).partition(":")
         if kind not in ("line", "point") or not name:
-            raise RankError("use line:NAME or point:NAME, or none for the curve at "
-                            "distance d", "objective", objective)
+            raise RankError("use line:NAME, point:NAME, contour or limits, or none (the "
+                            "limits' places when limits are bound to places, else the curve "
+                            "at distance d)", "objective", objective)
     if slots is not None and slots not in SLOT_RULES:
         raise RankError(f"use one of {', '.join(SLOT_RULES)}", "slots", slots)
 
@@ -232,7 +233,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     identity = solved or any(not math.isinf(float(getattr(c, "limit", 0.0)))
                              for c in constraints)
     space = build_space(layout, slots=slots, bundles=bundles, identity=identity)
-    notes = list(space.notes)
+    notes = list(space.notes) + ([obj.note] if obj.note else [])
     # Swapping L2 and L3 (complex conjugation) keeps every field only while nothing
     # distinguishes the conductors and the solved currents see no resistance.
     finite = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
@@ -252,11 +253,12 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
         deadline = t0 + budget_s
     elif method == "heuristic":
         deadline = t0 + DEFAULT_HEURISTIC_BUDGET_S
-    reporter = _Reporter(progress, t0)
+    reporter = _Reporter(progress, t0, obj.unit)
     capacity = max(64, 8 * top_k)
     evaluated, screened, stop, options, certified = 0, 0, "", [], False
-    tables = (SolvedTables(space, src, obj.search_m, layout, temperature_c) if solved
-              else Tables(space, src, obj.search_m)) if space.n_positions else None
+    tables = (SolvedTables(space, src, obj.search_m, layout, temperature_c, obj.search_w)
+              if solved else Tables(space, src, obj.search_m, weights=obj.search_w)
+              ) if space.n_positions else None
     for _ in range(3):
         pool = Pool(capacity, space.n_positions, space.canonical)
         evaluated, screened, stop = _search(layout, space, tables, pool, method, distinct,
@@ -281,14 +283,16 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
         RankOption(rank=r + 1, max_resultant_uT=v,
                    reduction_pct=_pct(baseline, v), reduction_db=_db(baseline, v),
                    far_field_order=order,
-                   positions=pos, sketch=sketch_text(layout, pos), figures=figs)
+                   positions=pos, sketch=sketch_text(layout, pos), figures=figs,
+                   versus_now=_versus(baseline, v),
+                   same_as=next((q + 1 for q in range(r) if _same(options[q][0], v)), None))
         for r, (v, pos, order, figs) in enumerate(options))
     return RankResult(distance_mm=float(distance_mm), method=method, evaluated=int(evaluated),
                       distinct=int(distinct), baseline_uT=float(baseline), options=opts,
                       elapsed_s=time.perf_counter() - t0, stopped_early=bool(stop),
                       objective=obj.label, certified=bool(certified and method == "exhaustive"),
                       screened=int(screened), notes=tuple(notes),
-                      baseline_positions=base_pos, currents=currents)
+                      baseline_positions=base_pos, currents=currents, unit=obj.unit)
 
 
 def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
@@ -354,6 +358,16 @@ def _closest(space, code: np.ndarray) -> np.ndarray:  # noqa: ANN001
 _SAME_FIELD = 1e-9
 
 
+def _same(a: float, b: float) -> bool:
+    """Two figures equal to rounding (the same field, or an equivalent arrangement)."""
+    return abs(a - b) <= _SAME_FIELD * max(abs(a), abs(b))
+
+
+def _versus(base: float, v: float) -> str:
+    """How an option compares with the arrangement in the file: better, same or worse."""
+    return "same" if _same(base, v) else ("better" if v < base else "worse")
+
+
 def _pct(base: float, v: float) -> float:
     if base <= 0 or abs(v - base) <= _SAME_FIELD * base:
         return 0.0
@@ -390,7 +404,8 @@ def _rescore(layout: Layout, space, obj: Objective,  # noqa: ANN001
             continue
         src = carried(moved)
         value = obj.score_uT(src, layout, pos)
-        order = far_field(src.xy_m, src.currents).order
+        ac = src.orders > 0
+        order = far_field(src.xy_m, src.currents[ac] if ac.any() else src.currents).order
         found.append((value, pos, order, figs))
         found.sort(key=lambda f: f[0])
     else:
@@ -404,8 +419,9 @@ def _rescore(layout: Layout, space, obj: Objective,  # noqa: ANN001
 class _Reporter:
     """Rate-limited progress messages with the best sampled field so far."""
 
-    def __init__(self, progress: Callable[[float, str], None] | None, t0: float) -> None:
-        self.progress, self.t0, self.last = progress, t0, 0.0
+    def __init__(self, progress: Callable[[float, str], None] | None, t0: float,
+                 unit: str = "µT") -> None:
+        self.progress, self.t0, self.last, self.unit = progress, t0, 0.0, unit
 
     def __call__(self, fraction: float, what: str, pool: Pool) -> None:
         if self.progress is None:
@@ -414,5 +430,6 @@ class _Reporter:
         if now - self.last < 0.2:
             return
         self.last = now
-        best = f"; best so far {np.sqrt(pool.values[0]) * UT:.4g} µT" if len(pool) else ""
+        best = (f"; best so far {np.sqrt(pool.values[0]) * UT:.4g} {self.unit}" if len(pool)
+                else "")
         self.progress(float(min(1.0, max(0.0, fraction))), what + best)

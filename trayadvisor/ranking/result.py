@@ -21,7 +21,11 @@ class Constraint(Protocol):
 
 @dataclass(frozen=True)
 class RankOption:
-    """One ranked arrangement with its figures (µT, %, dB) and every conductor's centre."""
+    """One ranked arrangement with its figures (µT or index, %, dB) and every conductor's centre.
+
+    ``max_resultant_uT`` is the objective's value in the result's ``unit``: µT for a field
+    objective, the worst index for the limits objective.
+    """
 
     rank: int
     max_resultant_uT: float
@@ -31,6 +35,8 @@ class RankOption:
     positions: dict[str, tuple[float, float]]  # every conductor, mm
     sketch: str
     figures: dict[str, float] = field(default_factory=dict)
+    versus_now: str = ""  # "better", "same" or "worse" than the arrangement in the file
+    same_as: int | None = None  # rank of an earlier option with the same figure
 
 
 @dataclass(frozen=True)
@@ -51,6 +57,7 @@ class RankResult:
     notes: tuple[str, ...] = ()
     baseline_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
     currents: str = "solved"  # the current model every option was scored with
+    unit: str = "µT"  # of the objective values: "µT", or "index" (limits objective)
 
     def to_json(self) -> dict:
         """The ``rank --json`` object (docs/json.md; keys may be added, never renamed)."""
@@ -61,14 +68,18 @@ class RankResult:
             "evaluated": self.evaluated,
             "distinct": self.distinct,
             "objective": self.objective,
-            "baseline_uT": self.baseline_uT,
+            "unit": self.unit,
+            "baseline": self.baseline_uT,
+            "baseline_uT": self.baseline_uT if self.unit == "µT" else None,
             "certified": self.certified,
             "screened": self.screened,
             "stopped_early": self.stopped_early,
             "elapsed_s": self.elapsed_s,
             "notes": list(self.notes),
             "options": [
-                {"rank": o.rank, "max_resultant_uT": o.max_resultant_uT,
+                {"rank": o.rank, "value": o.max_resultant_uT,
+                 "max_resultant_uT": o.max_resultant_uT if self.unit == "µT" else None,
+                 "versus_now": o.versus_now, "same_as": o.same_as,
                  "reduction_pct": o.reduction_pct, "reduction_db": o.reduction_db,
                  "far_field_order": o.far_field_order, "figures": dict(o.figures),
                  "sketch": o.sketch,

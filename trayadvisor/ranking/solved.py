@@ -218,28 +218,37 @@ class SolvedTables(Tables):
     linear = False
 
     def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray, layout: Layout,
-                 temperature_c: float) -> None:
-        super().__init__(space, src, pts_m, keep_all=True)
+                 temperature_c: float, weights: np.ndarray | None = None) -> None:
+        super().__init__(space, src, pts_m, keep_all=True, weights=weights)
         self.model = _model(space, layout, temperature_c)
         self.space = space
         self.expand: Callable[[np.ndarray], np.ndarray] | None = None
-        self._points(np.asarray(pts_m, dtype=float).reshape(-1, 2))
+        self._points(np.asarray(pts_m, dtype=float).reshape(-1, 2), weights)
 
-    def _points(self, pts: np.ndarray) -> None:
+    def _points(self, pts: np.ndarray, weights: np.ndarray | None) -> None:
+        """Field tables at the points; every component's field at every point scaled by
+        ``weights`` (P, H) (see :class:`~trayadvisor.ranking.tables.Tables`)."""
         m = self.model
         self.pts_m = pts
         self.g_rows = unit_field(m.xy_rows, m.radius_rows, pts)  # (S, P, 2)
         src = m.plan.sources
+        h = m.plan.orders.size
+        self.w_hp = (np.ones((h, pts.shape[0])) if weights is None
+                     else np.asarray(weights, dtype=float).reshape(pts.shape[0], h).T.copy())
         g_k = unit_field(src.xy_m[m.fixed_known], src.radius_m[m.fixed_known], pts)
-        self.b_known = np.einsum("hk,kpc->hpc", src.currents[:, m.fixed_known], g_k)
+        self.b_known = (np.einsum("hk,kpc->hpc", src.currents[:, m.fixed_known], g_k)
+                        * self.w_hp[:, :, None])
         if m.schur:  # B = Σ_g U_g (Eᵀ ay)_g + b0 (module notes)
-            self.ay = np.einsum("hst,tpc->hspc", m.Y, self.g_rows, optimize=True)
-            self.b0 = self.b_known - np.einsum("hs,spc->hpc", m.yc, self.g_rows)
+            self.ay = (np.einsum("hst,tpc->hspc", m.Y, self.g_rows, optimize=True)
+                       * self.w_hp[:, None, :, None])
+            self.b0 = self.b_known - (np.einsum("hs,spc->hpc", m.yc, self.g_rows)
+                                      * self.w_hp[:, :, None])
 
     # -- derived tables ----------------------------------------------------------------------
     def subset(self, idx: np.ndarray) -> SolvedTables:
         t = self._copy(self.V[:, :, idx], self.F[idx], self.expand)
         t.pts_m = self.pts_m[idx]
+        t.w_hp = np.ascontiguousarray(self.w_hp[:, idx])
         t.g_rows = None if self.g_rows is None else np.ascontiguousarray(self.g_rows[:, idx])
         t.b_known = np.ascontiguousarray(self.b_known[:, idx])
         if self.model.schur:
@@ -265,6 +274,7 @@ class SolvedTables(Tables):
         outer = self.expand
         t = self._copy(v, self.F, expand if outer is None else (lambda c: outer(expand(c))))
         t.pts_m, t.g_rows, t.b_known = self.pts_m, self.g_rows, self.b_known
+        t.w_hp = self.w_hp
         if self.model.schur:
             t.ay, t.b0 = self.ay, self.b0
         return t
@@ -284,6 +294,7 @@ class SolvedTables(Tables):
         t = self._copy(v, self.F, None)
         t.model, t.space = red, sub
         t.pts_m, t.b_known, t.g_rows = self.pts_m, self.b_known, None  # schur only
+        t.w_hp = self.w_hp
         t.ay, t.b0 = np.einsum("sr,hspc->hrpc", agg, self.ay), self.b0
         return t
 
@@ -320,8 +331,9 @@ class SolvedTables(Tables):
                                                   self.b0)
             else:
                 cur = _full_currents(self.model, self.space, part)  # (n, H, S)
-                out[s:s + _CHUNK] = np.einsum("nhs,spc->nhpc", cur, self.g_rows,
-                                              optimize=True) + self.b_known[None]
+                out[s:s + _CHUNK] = (np.einsum("nhs,spc->nhpc", cur, self.g_rows,
+                                               optimize=True) * self.w_hp[None, :, :, None]
+                                     + self.b_known[None])
         return out
 
     def fields(self, codes: np.ndarray) -> np.ndarray:

@@ -44,13 +44,17 @@ class Tables:
     keep_all : bool
         Keep every channel, also those zero for every kind (the exact solved scores of
         :class:`~trayadvisor.ranking.solved.SolvedTables` have all of them).
+    weights : (P, H) float, optional
+        Factor on each frequency component's field at each point (the objective's weights,
+        :class:`~trayadvisor.ranking.objective.Objective`: 0 drops a component, 1/level
+        turns a field into a limit's index); default 1 everywhere.
     """
 
     #: Scores are sums of the tables (equal shares); False for the solved tables.
     linear = True
 
     def __init__(self, space: Space, src: SourceArrays, pts_m: np.ndarray,
-                 keep_all: bool = False) -> None:
+                 keep_all: bool = False, weights: np.ndarray | None = None) -> None:
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         pos = space.positions_mm * MM
         g = unit_field(pos, 0.5 * space.diameters_mm * MM, pts)  # (J, P, 2)
@@ -66,6 +70,10 @@ class Tables:
             f = np.zeros((pts.shape[0], v.shape[-1] if v.size else 4 * cur.shape[0]))
         if v.shape[-1] != f.shape[-1]:
             v = np.zeros((j, k, pts.shape[0], f.shape[-1]))
+        if weights is not None:  # channel h·4 + c carries component h
+            wc = np.repeat(np.asarray(weights, dtype=float).reshape(pts.shape[0], -1), 4, axis=1)
+            v = v * wc[None, None]
+            f = f * wc
         live = (np.abs(v).reshape(-1, v.shape[-1]).max(axis=0, initial=0.0) > 0) | \
             (np.abs(f).max(axis=0, initial=0.0) > 0)
         if keep_all:
