@@ -4,16 +4,26 @@ from __future__ import annotations
 
 import itertools
 import math
+from dataclasses import replace
 
 import numpy as np
 import pytest
 
-from trayadvisor.analysis.summary import line_figure
+from trayadvisor.analysis.summary import field_summary, line_figure
 from trayadvisor.coupling import solved_sources
 from trayadvisor.engine import field_at_points_uT, split_bands, stray_uT
 from trayadvisor.engine.currents import MM, layout_sources
 from trayadvisor.engine.field import far_field
-from trayadvisor.model import Circuit, Conductor, Layout, ObservationLine, ObservationPoint, Tray
+from trayadvisor.model import (
+    Circuit,
+    Conductor,
+    Layout,
+    Limit,
+    ObservationArea,
+    ObservationLine,
+    ObservationPoint,
+    Tray,
+)
 from trayadvisor.ranking import apply_option
 from trayadvisor.ranking.rank import RankError, rank_layout
 
@@ -433,3 +443,51 @@ def test_circuits_that_differ_are_not_twins():
     assert twins(pair(current_b=310.0)) == 0
     assert twins(pair(area_b=95.0)) == 0
     assert twins(pair(fixed=True)) == 0
+
+
+def test_limits_objective_equals_brute_force_over_place_indices():
+    """The default objective with place-bound limits: the worst index of any of them, here a
+    multi-frequency exposure level over an area, a target at a point and a DC level."""
+    lay = mixed()
+    cons = tuple(replace(c, fixed=True) if c.circuit in ("S", "B") else c
+                 for c in lay.conductors)
+    lay = replace(lay, conductors=cons,
+                  areas=(ObservationArea("room", -200, 200, 760, 1200),),
+                  limits=(Limit("people", None, places=("room",), library="icnirp-2010-public"),
+                          Limit("desk target", 0.5, places=("desk",)),
+                          Limit("implants", None, places=("room",),
+                                library="eu-2013-35-static-implants")))
+    res = rank_layout(lay, top_k=3, currents="equal")
+    assert res.unit == "index" and res.objective.startswith("worst index of")
+
+    def worst(ly: Layout) -> float:
+        # Source: the `field` command's place figures (its own refinement), over
+        # itertools.permutations (brute_force above).
+        s = field_summary(ly, currents="equal")
+        return max(q.index for p in s.places for q in p.limits)
+
+    want = brute_force(lay, worst)
+    got = [o.max_resultant_uT for o in res.options]
+    assert res.method == "exhaustive" and res.certified
+    assert got == pytest.approx(want[:len(got)], rel=1e-9)
+    assert res.baseline_uT == pytest.approx(worst(lay), rel=1e-9)
+    for o in res.options:
+        assert o.versus_now == ("same" if abs(o.max_resultant_uT - res.baseline_uT)
+                                <= 1e-9 * res.baseline_uT else
+                                "better" if o.max_resultant_uT < res.baseline_uT else "worse")
+
+
+def test_contour_stays_an_option_and_worse_options_say_so():
+    lay = flat_sets(2, "123321")  # the reversed order is already the best on the contour
+    lay = replace(lay, points=(ObservationPoint("p", 300.0, 900.0),),
+                  limits=(Limit("t", 1.0, places=("p",)),))
+    res = rank_layout(lay, top_k=4, currents="equal", objective="contour")
+    assert res.unit == "µT" and res.objective == "contour at 500 mm"
+    assert res.options[0].versus_now == "same"
+    assert all(o.versus_now == "worse" for o in res.options[1:])
+    # options of equal figure point back at the first of them
+    for i, o in enumerate(res.options):
+        earlier = [p.rank for p in res.options[:i]
+                   if abs(p.max_resultant_uT - o.max_resultant_uT)
+                   <= 1e-9 * o.max_resultant_uT]
+        assert o.same_as == (earlier[0] if earlier else None)

@@ -180,7 +180,8 @@ FIELD_COLUMNS: tuple[str, ...] = (
 #: that limit's index there (``index:LIMIT@PLACE``; pass = index <= 1).
 INDEX_PREFIX = "index:"
 RANK_COLUMNS: tuple[str, ...] = (
-    "file", "status", "error", "method", "evaluated", "baseline_uT", "best_uT", "reduction_pct")
+    "file", "status", "error", "method", "evaluated", "baseline_uT", "best_uT", "reduction_pct",
+    "unit", "baseline", "best")
 
 
 def field_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
@@ -218,7 +219,8 @@ def rank_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
     best = data["options"][0] if data["options"] else {}
     row = {"method": data["method"], "evaluated": data["evaluated"],
            "baseline_uT": data["baseline_uT"], "best_uT": best.get("max_resultant_uT"),
-           "reduction_pct": best.get("reduction_pct")}
+           "reduction_pct": best.get("reduction_pct"), "unit": data["unit"],
+           "baseline": data["baseline"], "best": best.get("value")}
     return row, data
 
 

@@ -8,8 +8,9 @@ Each entry has a stable ``id`` (what a layout's ``library = "..."`` names), a ``
 (``"exposure"``: people; ``"immunity"``: equipment) and a ``band`` (``"ac"``: power frequency
 and its harmonics; ``"dc"``: static fields, judged only against the DC field).
 
-``checked`` says whether every value was compared with a copy of the cited document's table
-while this library was written; ``note`` names that copy, or says which pieces were recalled.
+Each frequency piece says whether it was compared with a copy of the cited document's table
+while this library was written (``checked``); ``note`` names that copy, or says which pieces
+were recalled.
 Recalled values are shown as such wherever the library is listed (``trayadvisor limits``,
 reports). Check them against your own copy of the document before relying on them.
 
@@ -44,12 +45,16 @@ BANDS: tuple[str, ...] = ("ac", "dc")
 
 @dataclass(frozen=True)
 class Piece:
-    """One frequency piece of a level: ``k_uT / f**power`` µT for ``f_lo <= f <= f_hi`` Hz."""
+    """One frequency piece of a level: ``k_uT / f**power`` µT for ``f_lo <= f <= f_hi`` Hz.
+
+    ``checked`` is True when this piece was compared with a copy of the cited table.
+    """
 
     f_lo: float
     f_hi: float
     k_uT: float
     power: int = 0
+    checked: bool = False
 
     def value(self, frequency_hz: float) -> float:
         return self.k_uT if self.power == 0 else self.k_uT / frequency_hz ** self.power
@@ -79,8 +84,6 @@ class LibraryLimit:
         The level over frequency, contiguous and increasing (DC: one piece at 0 Hz).
     source : str
         Document, edition and table.
-    checked : bool
-        True when every piece was compared with a copy of that table (see ``note``).
     note : str
         What it applies to, and what was checked against what, or recalled.
     """
@@ -91,8 +94,17 @@ class LibraryLimit:
     band: str
     pieces: tuple[Piece, ...]
     source: str
-    checked: bool
     note: str
+
+    @property
+    def checked(self) -> bool:
+        """True when every piece was compared with a copy of the cited table."""
+        return all(p.checked for p in self.pieces)
+
+    def checked_at(self, frequency_hz: float) -> bool:
+        """True when the piece holding ``frequency_hz`` was checked (False outside)."""
+        f = 0.0 if self.band == "dc" else frequency_hz
+        return any(p.checked for p in self.pieces if p.f_lo <= f <= p.f_hi)
 
     @property
     def f_min_hz(self) -> float:
@@ -129,7 +141,8 @@ class LibraryLimit:
         return "; ".join(f"{p} ({p.f_lo:g}-{p.f_hi:g} Hz)" for p in self.pieces)
 
 
-def _pieces(*rows: tuple[float, float, float, int]) -> tuple[Piece, ...]:
+def _pieces(*rows: tuple) -> tuple[Piece, ...]:
+    """Pieces from (f_lo, f_hi, k_uT, power[, checked]) rows."""
     return tuple(Piece(*r) for r in rows)
 
 
@@ -156,7 +169,7 @@ def _iec(level: int, a_per_m: float, use: str) -> LibraryLimit:
     b = a_per_m * UT_PER_A_PER_M
     return LibraryLimit(
         f"iec-61000-4-8-level-{level}", f"IEC 61000-4-8 level {level}", "immunity", "ac",
-        _pieces((50.0, 60.0, b, 0)), _IEC, False,
+        _pieces((50.0, 60.0, b, 0)), _IEC,
         f"equipment immunity test level, {use}; " + _IEC_NOTE.format(h=a_per_m, b=b))
 
 
@@ -164,59 +177,59 @@ def _iec(level: int, a_per_m: float, use: str) -> LibraryLimit:
 LIBRARY: tuple[LibraryLimit, ...] = (
     LibraryLimit(
         "icnirp-2010-public", "ICNIRP 2010 general public", "exposure", "ac",
-        _pieces((1.0, 8.0, 4.0e4, 2), (8.0, 25.0, 5.0e3, 1), (25.0, 400.0, 200.0, 0),
+        _pieces((1.0, 8.0, 4.0e4, 2), (8.0, 25.0, 5.0e3, 1), (25.0, 400.0, 200.0, 0, True),
                 (400.0, 3000.0, 8.0e4, 1), (3000.0, 1.0e7, 27.0, 0)),
-        _ICNIRP + ", Table 4", False,
+        _ICNIRP + ", Table 4",
         "reference level, general public (160 A/m at 25-400 Hz); recalled in part: "
         + _ICNIRP_COPY.format(plateau="2e-4 T", top=400)),
     LibraryLimit(
         "icnirp-2010-occupational", "ICNIRP 2010 occupational", "exposure", "ac",
-        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0),
+        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0, True),
                 (300.0, 3000.0, 3.0e5, 1), (3000.0, 1.0e7, 100.0, 0)),
-        _ICNIRP + ", Table 3", False,
+        _ICNIRP + ", Table 3",
         "reference level, occupational exposure (800 A/m at 25-300 Hz); recalled in part: "
         + _ICNIRP_COPY.format(plateau="1e-3 T", top=300)),
     LibraryLimit(
         "eu-2013-35-low", "2013/35/EU low AL", "exposure", "ac",
-        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0),
+        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0, True),
                 (300.0, 3000.0, 3.0e5, 1), (3000.0, 1.0e7, 100.0, 0)),
-        _EU, False,
+        _EU,
         "workers, low action level (sensory effects); the 1000 µT plateau (25 Hz to 300 Hz) "
         "was checked against the Norwegian transposition's table of lower action values; the "
         "other pieces are recalled (from memory)"),
     LibraryLimit(
         "eu-2013-35-high", "2013/35/EU high AL", "exposure", "ac",
         _pieces((1.0, 300.0, 3.0e5, 1)),
-        _EU, False,
+        _EU,
         "workers, high action level (health effects); 6000 µT at 50 Hz agrees with a "
         "published summary, the 3.0e5/f form is recalled; the entry stops at 300 Hz because "
         "the pieces above it were not recalled with confidence"),
     LibraryLimit(
         "eu-2013-35-limbs", "2013/35/EU limbs AL", "exposure", "ac",
-        _pieces((25.0, 300.0, 9.0e5, 1), (300.0, 3000.0, 3000.0, 0)),
-        _EU, False,
+        _pieces((25.0, 300.0, 9.0e5, 1, True), (300.0, 3000.0, 3000.0, 0)),
+        _EU,
         "workers, action level for limbs in a localised field; 9.0e5/f (25 Hz to 300 Hz) "
         "checked against the Norwegian transposition's table (18 mT at 50 Hz); the 3000 µT "
         "piece above 300 Hz is recalled"),
     LibraryLimit(
         "ieee-c95.6-public", "IEEE C95.6 general public", "exposure", "ac",
         _pieces((20.0, 759.0, 904.0, 0), (759.0, 3000.0, 6.87e5, 1)),
-        _IEEE, False, "maximum permissible exposure, general public; " + _IEEE_NOTE),
+        _IEEE, "maximum permissible exposure, general public; " + _IEEE_NOTE),
     LibraryLimit(
         "ieee-c95.6-controlled", "IEEE C95.6 controlled", "exposure", "ac",
         _pieces((20.0, 759.0, 2710.0, 0), (759.0, 3000.0, 2.06e6, 1)),
-        _IEEE, False, "maximum permissible exposure, controlled environment; " + _IEEE_NOTE),
+        _IEEE, "maximum permissible exposure, controlled environment; " + _IEEE_NOTE),
     LibraryLimit(
         "icnirp-2009-static-public", "ICNIRP 2009 static public", "exposure", "dc",
-        _pieces((0.0, 0.0, 4.0e5, 0)), _ICNIRP_STATIC + ", Table 1", False,
+        _pieces((0.0, 0.0, 4.0e5, 0)), _ICNIRP_STATIC + ", Table 1",
         "static field, general public, 400 mT; recalled (from memory)"),
     LibraryLimit(
         "icnirp-2009-static-occupational", "ICNIRP 2009 static occupational", "exposure",
-        "dc", _pieces((0.0, 0.0, 2.0e6, 0)), _ICNIRP_STATIC + ", Table 1", False,
+        "dc", _pieces((0.0, 0.0, 2.0e6, 0)), _ICNIRP_STATIC + ", Table 1",
         "static field, occupational, head and trunk, 2 T; recalled (from memory)"),
     LibraryLimit(
         "eu-2013-35-static-implants", "2013/35/EU static implants AL", "exposure", "dc",
-        _pieces((0.0, 0.0, 500.0, 0)), _EU_STATIC, False,
+        _pieces((0.0, 0.0, 500.0, 0)), _EU_STATIC,
         "workers, action level for interference with active implanted devices (e.g. "
         "pacemakers), 0.5 mT; recalled (from memory)"),
     _iec(1, 1.0, "sensitive equipment with electron beams"),
@@ -238,9 +251,11 @@ def library_at(frequency_hz: float, band: str = "ac") -> tuple[tuple[LibraryLimi
                  if lim.band == "ac" and lim.valid_at(frequency_hz))
 
 
-def library_source(lim: LibraryLimit) -> str:
-    """Source text carried into results: the document, and a flag when recalled."""
-    return lim.source if lim.checked else f"{lim.source} [recalled, not checked]"
+def library_source(lim: LibraryLimit, frequency_hz: float | None = None) -> str:
+    """Source text carried into results: the document, and a flag when recalled (at
+    ``frequency_hz``, when given: the piece in use; else any piece)."""
+    ok = lim.checked if frequency_hz is None else lim.checked_at(frequency_hz)
+    return lim.source if ok else f"{lim.source} [recalled, not checked]"
 
 
 def all_limits(layout: Layout, frequency_hz: float | None = None) -> tuple[Limit, ...]:
@@ -256,7 +271,7 @@ def all_limits(layout: Layout, frequency_hz: float | None = None) -> tuple[Limit
         Frequency to select and evaluate library levels at (default: the layout's).
     """
     f = float(layout.frequency_hz if frequency_hz is None else frequency_hz)
-    lib = tuple(Limit(lim.name, ut, library_source(lim), kind=lim.kind, band=lim.band,
+    lib = tuple(Limit(lim.name, ut, library_source(lim, f), kind=lim.kind, band=lim.band,
                       library=lim.id) for lim, ut in library_at(f))
     return lib + tuple(layout.limits)
 
@@ -361,7 +376,7 @@ def resolve_limit(limit: Limit, frequency_hz: float) -> Rule:
             raise ValueError(f"library entry {entry.id!r} covers {entry.f_min_hz:g}-"
                              f"{entry.f_max_hz:g} Hz, not the layout's {f:g} Hz; choose "
                              "another entry")
-        return Rule(limit.name, kind, band, entry.value_uT(f), library_source(entry),
+        return Rule(limit.name, kind, band, entry.value_uT(f), library_source(entry, f),
                     tuple(limit.places), entry)
     if limit.value_uT is None:
         raise ValueError("give the level as ut = <µT> or name a library entry as "

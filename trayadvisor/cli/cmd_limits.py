@@ -28,13 +28,22 @@ def _row(lim: LibraryLimit, f: float | None) -> dict:
     row = {"id": lim.id, "name": lim.name, "kind": lim.kind, "band": lim.band,
            "formula_uT": lim.formula(), "formulas": lim.formulas(),
            "pieces": [{"f_lo_hz": p.f_lo, "f_hi_hz": p.f_hi, "k_uT": p.k_uT,
-                       "power": p.power} for p in lim.pieces],
+                       "power": p.power, "checked": p.checked} for p in lim.pieces],
            "f_min_hz": lim.f_min_hz, "f_max_hz": lim.f_max_hz,
            "uT_at_50hz": _value(lim, 50.0), "uT_at_60hz": _value(lim, 60.0),
            "source": lim.source, "checked": lim.checked, "note": lim.note}
     if f is not None:
         row["uT"] = _value(lim, f)
+        row["checked_at_f"] = lim.checked_at(f)
     return row
+
+
+def _status(r: dict) -> str:
+    """'checked', 'partly' (some pieces recalled) or 'RECALLED' (at F: that piece's)."""
+    if "checked_at_f" in r:
+        return "checked" if r["checked_at_f"] else "RECALLED"
+    ok = [p["checked"] for p in r["pieces"]]
+    return "checked" if all(ok) else ("partly" if any(ok) else "RECALLED")
 
 
 def _shown(lim: LibraryLimit, f: float | None) -> bool:
@@ -76,7 +85,7 @@ def run(args: argparse.Namespace) -> int:
                                                  r["uT_at_60hz"]])
         rng = "static" if r["band"] == "dc" else f"{r['f_min_hz']:g}-{r['f_max_hz']:g}"
         print(f"{r['name']:<30}" + "".join(f"{_cell(v):>9}" for v in vals)
-              + f"  {rng:<10} {'checked' if r['checked'] else 'RECALLED'}")
+              + f"  {rng:<10} {_status(r)}")
         print(f"    id {r['id']}: {r['kind']} ({_KIND_WORDS[r['kind']]}), "
               f"{r['band'].upper()}; {r['source']}")
         if len(r["pieces"]) > 1:
@@ -89,6 +98,7 @@ def run(args: argparse.Namespace) -> int:
         print(f"    {r['kind']} ({_KIND_WORDS[r['kind']]}), {r['band'].upper()}, at "
               f"{plain(where)}; {plain(r['source'])}")
     print("RECALLED: value not checked against the cited document; check your own copy.\n"
+          "partly: some frequency pieces checked, the others recalled (see the level).\n"
           "Levels are RMS flux density in µT; IEC 61000-4-8 levels are converted from A/m\n"
           "with B = µ0·H. Exposure levels judge harmonics by the multi-frequency rule\n"
           "(sum of B_h / level(f_h)); static (DC) levels judge only the DC field.")

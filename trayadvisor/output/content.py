@@ -124,7 +124,7 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
     library = library_at(f)
     summary = field_summary(layout, distance_mm=distance_mm, currents=currents,
                             temperature_c=temperature_c,
-                            limits=[Limit(lim.name, ut, library_source(lim), kind=lim.kind,
+                            limits=[Limit(lim.name, ut, library_source(lim, f), kind=lim.kind,
                                           band=lim.band, library=lim.id)
                                     for lim, ut in library])
     src = carried_sources(layout, currents, temperature_c)
@@ -160,8 +160,9 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
                         contours_svg(layout, summary, grid, bounds, "fig2")))
     pics.append(Picture("profile", "Resultant RMS field along the curve at distance d.",
                         profile_svg(layout, summary, "fig3")))
-    pics.append(Picture("distance", "Stray field against distance (log-log), with the limits, "
-                        "their clearances (triangles) and the far-field slope.",
+    pics.append(Picture("distance", "AC stray field against distance (log-log), with the AC "
+                        "limits, their clearances (triangles; for an exposure level, where its "
+                        "multi-frequency index reaches 1) and the far-field slope.",
                         distance_svg(d, b, summary, "fig4")))
     options = option_layouts(content)
     if options:
@@ -231,7 +232,7 @@ def limit_rows(c: ReportContent) -> list[list[Cell | str]]:
     for lim in c.summary.limits:
         try:
             lib = find(lim.name)
-            checked = "checked" if lib.checked else "RECALLED"
+            checked = ("checked" if lib.checked_at(c.layout.frequency_hz) else "RECALLED")
             source = lib.source
         except KeyError:
             checked, source = "layout", lim.source

@@ -244,7 +244,9 @@ def distance_svg(distance_mm: np.ndarray, stray_uT: np.ndarray, summary: FieldSu
         ax.plot(summary.distance_mm * MM, summary.max_resultant_uT, marker="o",
                 color="black", linestyle="none", markersize=4,
                 label=f"d = {summary.distance_mm:g} mm")
-    shown = [(i, lim) for i, lim in enumerate(summary.limits) if lo / 30 <= lim.limit_uT <= hi * 30]
+    # AC limits only: the curve is the AC stray field (a DC level judges the static field)
+    shown = [(i, lim) for i, lim in enumerate(summary.limits)
+             if lim.band == "ac" and lo / 30 <= lim.limit_uT <= hi * 30]
     groups: dict[float, list[str]] = {}
     for i, lim in shown:
         col = _PALETTE[(i + 1) % len(_PALETTE)]
