@@ -208,7 +208,7 @@ def test_rank_batch_equals_single_runs(tmp_path, capsys):
     assert code == 0
     rows = list(csv.DictReader(io.StringIO(out.read_text(encoding="utf-8"))))
     assert tuple(rows[0]) == ("file", "status", "error", "method", "evaluated", "baseline_uT",
-                              "best_uT", "reduction_pct")
+                              "best_uT", "reduction_pct", "unit", "baseline", "best")
     for b, row, p in zip(batch, rows, paths, strict=True):
         assert main(["rank", str(p), "--json"]) == 0
         one = json.loads(capsys.readouterr().out)
@@ -216,4 +216,27 @@ def test_rank_batch_equals_single_runs(tmp_path, capsys):
         assert {k: v for k, v in b.items() if k not in timing} == {
             k: v for k, v in one.items() if k != "elapsed_s"}
         assert float(row["best_uT"]) == one["options"][0]["max_resultant_uT"]
+        assert row["unit"] == "µT" and float(row["best"]) == one["options"][0]["value"]
         assert row["method"] == one["method"] and int(row["evaluated"]) == one["evaluated"]
+
+
+def test_field_batch_has_one_column_per_place_bound_limit(tmp_path, capsys):
+    demo = Path(__file__).resolve().parents[1] / "layouts" / "demo.toml"
+    other = write_cases(tmp_path / "in", 1)[0]
+    out = tmp_path / "field.csv"
+    assert main(["field", str(demo), str(other), "--out", str(out)]) == 0
+    capsys.readouterr()
+    rows = list(csv.DictReader(io.StringIO(out.read_text(encoding="utf-8"))))
+    assert main(["field", str(demo), "--json"]) == 0
+    one = json.loads(capsys.readouterr().out)
+    # Source: the single-file `field --json` of the same layout.
+    want = {f"index:{q['name']}@{p['name']}": q["index"]
+            for p in one["places"] for q in p["limits"]}
+    assert set(want) == {"index:quiet-room target@quiet room",
+                         "index:implant wearers@quiet room"}
+    for key, value in want.items():
+        assert float(rows[0][key]) == value
+        assert rows[1][key] == ""  # the other file has no such limit
+    assert int(rows[0]["place_limits_failed"]) == sum(
+        1 for p in one["places"] for q in p["limits"] if not q["passes"])
+    assert float(rows[0]["dc_max_uT"]) == one["dc_max_uT"]

@@ -200,10 +200,15 @@ def test_conductor_temperature_reaches_field_and_rank(capsys):
     code, out, _ = run_cli(capsys, "field", str(DEMO), "--equal-shares", "--json")
     assert json.loads(out)["temperature_c"] is None  # no resistance enters equal shares
     code, out, _ = run_cli(capsys, "rank", str(DEMO), "--temperature-c", "20", "--top", "1",
-                           "--json")
+                           "--objective", "contour", "--json")
     assert code == 0
     assert json.loads(out)["baseline_uT"] == pytest.approx(cold["max_resultant_uT"],
                                                            rel=1e-9)
+    # the default objective (the demo's place-bound limits) uses that temperature too
+    code, out, _ = run_cli(capsys, "rank", str(DEMO), "--temperature-c", "20", "--top", "1",
+                           "--json")
+    worst = max(q["index"] for p in cold["places"] for q in p["limits"])
+    assert json.loads(out)["baseline"] == pytest.approx(worst, rel=1e-9)
 
 
 @pytest.mark.parametrize("command", ["field", "rank", "couple", "report"])

@@ -81,8 +81,7 @@ async def test_field_view_shows_map_contour_and_readouts_in_step() -> None:
         assert fmt_uT(s.max_resultant_uT) in shown
         assert f"x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f}" in shown
         lim = app.chosen_limit()
-        fig = field_summary(lay, distance_mm=d,
-                            limits=[(lim.name, lim.value_uT, lim.source)]).limits[-1]
+        fig = field_summary(lay, distance_mm=d, limits=[lim]).limits[-1]
         assert ("PASS" if fig.passes else "FAIL") in shown
         assert app.figure_for(lim).clearance_mm == fig.clearance_mm
         await pilot.press("m")                              # shade map: glyphs and digits

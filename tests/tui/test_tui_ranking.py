@@ -58,7 +58,9 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         assert r.method in info and f"{r.evaluated:,}" in info
         table = screen.query_one("#options", DataTable)
         assert table.row_count == 5
-        assert str(table.get_row_at(0)[1]) == fmt_uT(r.options[0].max_resultant_uT)
+        # the demo binds limits to places: the options are ranked on the worst index
+        assert r.unit == "index"
+        assert str(table.get_row_at(0)[1]) == f"{r.options[0].max_resultant_uT:.3g}"
 
         # The highlighted option is previewed; the document is untouched until applied.
         await pilot.press("down")
@@ -71,12 +73,14 @@ async def test_rank_the_demo_apply_option_1_then_undo() -> None:
         opt = r.options[0]
         assert app.document.layout == apply_option(original, opt)
         assert app.document.undo_label == "apply ranked option 1"
-        shown = app.summary.max_resultant_uT
-        assert shown == pytest.approx(opt.max_resultant_uT, rel=1e-6)
-        # Reference: what `trayadvisor field` reports for the applied layout.
-        want = field_summary(app.document.layout, distance_mm=400.0).max_resultant_uT
-        assert shown == pytest.approx(want, rel=1e-6)
-        assert f"{fmt_uT(opt.max_resultant_uT)} µT" in text_of(app, "#readout")
+        # Reference: what `trayadvisor field` reports for the applied layout: the worst
+        # index of the place-bound limits, as the UI's own summary computes it.
+        want = field_summary(app.document.layout, distance_mm=400.0)
+        worst = max(q.index for p in want.places for q in p.limits)
+        assert worst == pytest.approx(opt.max_resultant_uT, rel=1e-6)
+        shown = max(q.index for p in app.summary.places for q in p.limits)
+        assert shown == pytest.approx(worst, rel=1e-6)
+        assert app.summary.max_resultant_uT == pytest.approx(want.max_resultant_uT, rel=1e-9)
 
         await pilot.press("u")                              # one undo restores it all
         await settle(app, pilot)
@@ -167,7 +171,8 @@ async def test_saving_the_options_as_json_csv_and_refusing_an_unknown_extension(
         await _save_as(app, pilot, out)
         data = json.loads(out.read_text(encoding="utf-8"))
         assert [o["rank"] for o in data["options"]] == [1, 2, 3, 4, 5]
-        assert data["options"][0]["max_resultant_uT"] == r.options[0].max_resultant_uT
+        assert data["unit"] == "index" and data["options"][0]["max_resultant_uT"] is None
+        assert data["options"][0]["value"] == r.options[0].max_resultant_uT
         assert data["method"] == r.method and data["evaluated"] == r.evaluated
         csv_path = tmp_path / "options.csv"
         await _save_as(app, pilot, csv_path)

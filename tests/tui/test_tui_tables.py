@@ -45,11 +45,14 @@ SMALL = read_layout(Path(__file__).parents[2] / "layouts" / "two-sets-reversed.t
 
 def test_rank_params_check_their_values() -> None:
     for bad in ({"top_k": 0}, {"top_k": 51}, {"budget_s": 0.0}, {"budget_s": math.inf},
-                {"objective": "contour"}, {"objective": "line:"}):
+                {"objective": "sideways"}, {"objective": "line:"}):
         with pytest.raises(ValueError):
             RankParams(**bad)
+    assert RankParams(3, "contour").objective == "contour"  # explicit: the curve at d
+    # the demo binds limits to places: the worst limit index comes first (the default)
     values = [v for _, v in objective_choices(DEMO)]
-    assert values == ["contour", "line:QR-wall", "point:QR-desk"]
+    assert values == ["limits", "contour", "line:QR-wall", "point:QR-desk"]
+    assert [v for _, v in objective_choices(SMALL)] == ["contour"]
     gone = RankParams(3, "line:no-such-line", 2.0)
     assert usable_params(gone, DEMO) == RankParams(3, None, 2.0)
     assert usable_params(RankParams(3, "point:QR-desk"), DEMO).objective == "point:QR-desk"

@@ -2,7 +2,9 @@
 
 - CSV: one row per option and conductor (``rank, max_resultant_uT, reduction_pct,
   reduction_db, far_field_order, <figure keys>, conductor, circuit, phase, x_mm, y_mm,
-  moved``), floats in full precision, so a spreadsheet can filter one option or pivot.
+  moved, value, unit, versus_now, same_as``), floats in full precision, so a spreadsheet
+  can filter one option or pivot. ``value`` is the objective's value in ``unit`` (µT, or
+  the worst limit index); ``max_resultant_uT`` is empty for an index.
 - JSON: the ``rank --json`` object (:meth:`trayadvisor.ranking.RankResult.to_json`).
 - Markdown: a summary, a table of options, and for each option its sketch and positions.
 
@@ -61,15 +63,19 @@ def result_csv(result: RankResult, layout: Layout | None = None) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(["rank", "max_resultant_uT", "reduction_pct", "reduction_db",
                 "far_field_order", *keys, "conductor", "circuit", "phase", "x_mm", "y_mm",
-                "moved"])
+                "moved", "value", "unit", "versus_now", "same_as"])
+    in_ut = result.unit == "µT"
     for o in result.options:
-        head = [o.rank, _num(o.max_resultant_uT), _num(o.reduction_pct), _num(o.reduction_db),
-                _num(o.far_field_order), *(_num(o.figures.get(k)) for k in keys)]
+        head = [o.rank, _num(o.max_resultant_uT) if in_ut else "", _num(o.reduction_pct),
+                _num(o.reduction_db), _num(o.far_field_order),
+                *(_num(o.figures.get(k)) for k in keys)]
+        tail = [_num(o.max_resultant_uT), result.unit, o.versus_now,
+                "" if o.same_as is None else o.same_as]
         for name, (x, y) in o.positions.items():
             circ, phase = info.get(name, ("", ""))
             moved = _moved(result, name, x, y)
             w.writerow([*head, name, circ, phase, _num(float(x)), _num(float(y)),
-                        "" if moved is None else ("yes" if moved else "no")])
+                        "" if moved is None else ("yes" if moved else "no"), *tail])
     return buf.getvalue()
 
 
@@ -98,24 +104,28 @@ def result_markdown(result: RankResult, title: str = "", layout: Layout | None =
     done = f"{result.evaluated:,}"
     if result.distinct is not None:
         done += f" of {result.distinct:,} distinct"
+    unit = " µT" if result.unit == "µT" else " (worst limit index)"
     lines = [head, "",
-             f"- objective: {result.objective}",
+             f"- objective: {_md_cell(result.objective)}",
              f"- method: {result.method} ({done} arrangements evaluated"
              + ("; the top options are exact" if result.certified else "") + ")",
-             f"- now (arrangement in the file): {_md_num(result.baseline_uT)} µT",
+             f"- now (arrangement in the file): {_md_num(result.baseline_uT)}{unit}",
              *(f"- note: {_md_cell(n)}" for n in result.notes), ""]
     keys = sorted({k for o in result.options for k in o.figures})
-    lines.append("| rank | field µT | reduction % | reduction dB | far-field order |"
+    field = "field µT" if result.unit == "µT" else "worst index"
+    lines.append(f"| rank | {field} | reduction % | reduction dB | far-field order | vs now |"
                  + "".join(f" {k} |" for k in keys))
-    lines.append("|---:|---:|---:|---:|---:|" + "---:|" * len(keys))
+    lines.append("|---:|---:|---:|---:|---:|---|" + "---:|" * len(keys))
     for o in result.options:
+        versus = {"worse": "WORSE", "same": "same"}.get(o.versus_now, "better") + (
+            f", = option {o.same_as}" if o.same_as else "")
         lines.append(f"| {o.rank} | {_md_num(o.max_resultant_uT)} | "
                      f"{_md_num(o.reduction_pct, '.1f')} | {_md_num(o.reduction_db, '.1f')} | "
-                     f"{'–' if o.far_field_order is None else o.far_field_order} |"
+                     f"{'–' if o.far_field_order is None else o.far_field_order} | {versus} |"
                      + "".join(f" {_md_num(o.figures.get(k))} |" for k in keys))
     info = {c.name: (c.circuit, c.phase) for c in layout.conductors} if layout else {}
     for o in result.options:
-        lines += ["", f"## Option {o.rank}: {_md_num(o.max_resultant_uT)} µT", "",
+        lines += ["", f"## Option {o.rank}: {_md_num(o.max_resultant_uT)}{unit}", "",
                   "```text", o.sketch, "```", "",
                   "| conductor | circuit | phase | x mm | y mm | moved |",
                   "|---|---|---|---:|---:|---|"]

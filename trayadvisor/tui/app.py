@@ -27,7 +27,13 @@ from trayadvisor.tui.files import FileCommands
 from trayadvisor.tui.logic.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
 from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.logic.keymap import KeymapError, default_keymap_path, load_keymap
-from trayadvisor.tui.logic.settings import TYPED_LIMIT, ViewSettings, available_limits, chosen_limit
+from trayadvisor.tui.logic.settings import (
+    TYPED_LIMIT,
+    ViewSettings,
+    available_limits,
+    chosen_limit,
+    limit_level_uT,
+)
 from trayadvisor.tui.reports import ReportCommands
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.help import HelpScreen
@@ -129,7 +135,8 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         if limit is None:
             return None
         fig = self.figures.get(limit.name)
-        return fig if fig is not None and fig.limit_uT == limit.value_uT else None
+        level = limit_level_uT(limit, self.document.layout.frequency_hz)
+        return fig if fig is not None and fig.limit_uT == level else None
 
     def results_pending(self) -> bool:
         """True while the figures on show are older than the model and settings."""
@@ -281,14 +288,14 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
 
 def known_binding_ids() -> set[str]:
     """Every binding id of the app, its views, the canvas and the dialogs (keymap check)."""
-    from trayadvisor.tui.screens import dialogs, forms
+    from trayadvisor.tui.screens import dialogs, forms, placeforms, placemenu
     from trayadvisor.tui.widgets.canvas import SectionCanvas
 
     classes: list[type] = [TrayApp, SectionCanvas, HelpScreen, *(v.screen for v in VIEWS
                                                                   if isinstance(v.screen, type))]
     classes += [getattr(dialogs, n) for n in ("ConfirmDialog", "UnsavedDialog",
                                               "MessageDialog", "PathDialog")]
-    classes += [forms.FormScreen]
+    classes += [forms.FormScreen, placemenu.PlacesMenu, placeforms.PlacePicker]
     ids = set()
     for cls in classes:
         for klass in cls.__mro__:

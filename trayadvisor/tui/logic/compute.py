@@ -18,6 +18,7 @@ import numpy as np
 from trayadvisor.analysis import FieldSummary, LimitFigure, field_summary
 from trayadvisor.coupling import SharingError, carried_sources
 from trayadvisor.engine import field_grid_uT
+from trayadvisor.limits import resolve_limit
 from trayadvisor.model import Layout, Limit
 from trayadvisor.tui.logic.viewport import Viewport
 
@@ -52,15 +53,19 @@ def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
                  currents: str = "solved") -> None:
     """Compute the readouts of one layout in stages.
 
-    1. With ``summary``: ``field_summary(layout, distance_mm=d, currents=…)`` without limits
-       (milliseconds), emitted as SummaryDone.
-    2. For each limit in ``limits``, ``field_summary`` with just that limit, which adds its
-       clearance search (tens of ms each): one LimitDone each.
+    1. With ``summary``: ``field_summary(layout, distance_mm=d, currents=…)`` with the
+       layout's limits bound to places only (judged at their places: ``summary.places``;
+       milliseconds), emitted as SummaryDone.
+    2. For each limit in ``limits``, ``field_summary`` with just that limit on the curve at
+       d, which adds its clearance search (tens of ms each): one LimitDone each. The Limit
+       itself is passed, so a library entry is judged by its own rule (the multi-frequency
+       sum for exposure levels, the static field for the DC band).
     """
     base = replace(layout, limits=())
     try:
         if summary:
-            result = field_summary(base, distance_mm=distance_mm, currents=currents)
+            result = field_summary(replace(layout, limits=place_bound(layout)),
+                                   distance_mm=distance_mm, currents=currents)
             if cancelled():
                 return
             emit(SummaryDone(result))
@@ -68,7 +73,7 @@ def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
             if cancelled():
                 return
             fig = field_summary(base, distance_mm=distance_mm, currents=currents,
-                                limits=[(lim.name, lim.value_uT, lim.source)]).limits[-1]
+                                limits=[lim]).limits[-1]
             if cancelled():
                 return
             emit(LimitDone(fig))
@@ -76,6 +81,21 @@ def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
         emit(Failed(str(exc)))
     except Exception as exc:  # a UI must survive an engine error: show it, keep running
         emit(Failed(f"field computation failed: {type(exc).__name__}: {exc}"))
+
+
+def place_bound(layout: Layout) -> tuple[Limit, ...]:
+    """The layout's limits bound to places that the limits library can judge (a limit the
+    validation refuses is left out here; the status line names it)."""
+    out = []
+    for lim in layout.limits:
+        if not lim.places:
+            continue
+        try:
+            resolve_limit(lim, float(layout.frequency_hz))
+        except (ValueError, TypeError):
+            continue
+        out.append(lim)
+    return tuple(out)
 
 
 def map_grid(layout: Layout, vp: Viewport, currents: str = "solved") -> np.ndarray:

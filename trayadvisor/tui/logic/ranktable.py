@@ -17,6 +17,7 @@ from trayadvisor.ranking import RankOption, RankResult, apply_option
 
 MAX_TOP_K = 50  #: most options one run lists
 CONTOUR = "contour"  #: the objective value that means "the contour at d"
+LIMITS = "limits"  #: the worst index of the limits bound to places
 
 #: Short column titles for figures the constraints add to ``RankOption.figures``.
 FIGURE_LABELS = {"imbalance_pct": "imbal %", "induced_mV_per_m": "mV/m"}
@@ -54,9 +55,9 @@ class RankParams:
         if b is not None and not (math.isfinite(b) and b > 0):
             raise ValueError("the time budget must be a positive number of seconds")
         o = self.objective
-        if o is not None and (o.partition(":")[0] not in ("line", "point")
-                              or not o.partition(":")[2]):
-            raise ValueError("objective: the contour, line:NAME or point:NAME")
+        if o is not None and o not in (CONTOUR, LIMITS) and (
+                o.partition(":")[0] not in ("line", "point") or not o.partition(":")[2]):
+            raise ValueError("objective: limits, the contour, line:NAME or point:NAME")
         for v, what in ((self.max_imbalance_pct, "imbalance"),
                         (self.max_induced_mV_per_m, "victim EMF")):
             if math.isnan(v) or v <= 0:
@@ -72,24 +73,37 @@ class RankParams:
                 "max_induced_mV_per_m": self.max_induced_mV_per_m, "currents": currents}
 
 
+def place_bound(layout: Layout) -> bool:
+    """True when the layout binds a limit to places (the ranking's default is then the
+    worst index of those limits)."""
+    return any(lim.places for lim in layout.limits)
+
+
 def objective_choices(layout: Layout) -> list[tuple[str, str]]:
-    """(label, value) of every objective the layout offers: the contour, its named lines
-    and points."""
-    out = [("contour at d (stray field)", CONTOUR)]
+    """(label, value) of every objective the layout offers: the worst index of its
+    place-bound limits (when it has any), the contour, its named lines and points."""
+    out = [("worst limit index at places", LIMITS)] if place_bound(layout) else []
+    out += [("contour at d (stray field)", CONTOUR)]
     out += [(f"line {ln.name}", f"line:{ln.name}") for ln in layout.lines]
     out += [(f"point {p.name}", f"point:{p.name}") for p in layout.points]
     return out
 
 
-def objective_text(objective: str | None, distance_mm: float) -> str:
-    if objective is None:
+def objective_text(objective: str | None, distance_mm: float,
+                   layout: Layout | None = None) -> str:
+    """The objective in words; None is the default: the worst limit index when ``layout``
+    binds limits to places, else the contour."""
+    if objective == LIMITS or (objective is None and layout is not None
+                               and place_bound(layout)):
+        return "worst index of the limits at their places"
+    if objective in (None, CONTOUR):
         return f"max on the contour at d {distance_mm:g} mm"
     kind, _, name = objective.partition(":")
     return f"max on line {name}" if kind == "line" else f"field at point {name}"
 
 
 def usable_params(params: RankParams, layout: Layout) -> RankParams:
-    """``params`` with an objective the layout no longer names reset to the contour."""
+    """``params`` with an objective the layout no longer offers reset to the default."""
     if params.objective is None:
         return params
     if params.objective in {v for _, v in objective_choices(layout)}:
@@ -111,8 +125,9 @@ def figure_keys(result: RankResult) -> tuple[str, ...]:
 
 def columns(result: RankResult | None) -> list[Column]:
     """The option table's columns: rank, field, reduction, far field, extra figures, moves."""
-    cols = [Column("rank", "#"), Column("uT", "µT"), Column("pct", "lower %"),
-            Column("db", "dB"), Column("order", "far field")]
+    unit = "µT" if result is None else result.unit
+    cols = [Column("rank", "#"), Column("uT", unit), Column("pct", "lower %"),
+            Column("db", "dB"), Column("now", "vs now"), Column("order", "far field")]
     if result is not None:
         cols += [Column(f"fig:{k}", FIGURE_LABELS.get(k, k)) for k in figure_keys(result)]
     cols.append(Column("moved", "moves"))
@@ -145,10 +160,22 @@ def fmt_figure(v: float) -> str:
     return f"{v:.3g}" if math.isfinite(v) else "–"
 
 
+def value_text(result: RankResult, v: float) -> str:
+    """An objective value as the table shows it: µT, or the index."""
+    return fmt_uT(v) if result.unit == "µT" else f"{v:.3g}"
+
+
+def versus_text(option: RankOption) -> str:
+    """'better', 'same', 'WORSE', with '=k' when option k has the same figure."""
+    word = {"worse": "WORSE", "same": "same"}.get(option.versus_now, "better")
+    return word + (f" ={option.same_as}" if option.same_as else "")
+
+
 def option_cells(result: RankResult, option: RankOption) -> list[str]:
     """One table row, in :func:`columns` order."""
-    cells = [str(option.rank), fmt_uT(option.max_resultant_uT), _pct(option.reduction_pct),
-             _db(option.reduction_db), order_text(option.far_field_order)]
+    cells = [str(option.rank), value_text(result, option.max_resultant_uT),
+             _pct(option.reduction_pct), _db(option.reduction_db), versus_text(option),
+             order_text(option.far_field_order)]
     cells += [fmt_figure(option.figures[k]) if k in option.figures else "–"
               for k in figure_keys(result)]
     cells.append(f"{moved_count(result, option)}")
@@ -178,13 +205,21 @@ def run_notes(result: RankResult) -> list[str]:
 
 def option_lines(result: RankResult, option: RankOption, n_conductors: int) -> list[str]:
     """The highlighted option's figures, then the figure of the arrangement ranked."""
+    unit = " µT" if result.unit == "µT" else " (worst limit index)"
+    value = value_text(result, option.max_resultant_uT)
     lines = [f"Option {option.rank} of {len(result.options)} (a applies)",
-             f" {fmt_uT(option.max_resultant_uT)} µT, {_pct(option.reduction_pct)} % lower, "
+             f" {value}{unit}, {_pct(option.reduction_pct)} % lower, "
              f"{_db(option.reduction_db)} dB",
              f" far field {order_text(option.far_field_order)}",
              f" moves {moved_count(result, option)} of {n_conductors} conductors"]
     lines += [f" {FIGURE_LABELS.get(k, k)} {fmt_figure(v)}" for k, v in option.figures.items()]
-    lines.append(f"Before (as ranked): {fmt_uT(result.baseline_uT)} µT")
+    if option.versus_now == "worse":
+        lines.append(" WORSE than the arrangement ranked")
+    elif option.versus_now == "same":
+        lines.append(" same figure as the arrangement ranked")
+    if option.same_as:
+        lines.append(f" equivalent to option {option.same_as} (same figure)")
+    lines.append(f"Before (as ranked): {value_text(result, result.baseline_uT)}{unit}")
     return lines
 
 
@@ -203,7 +238,8 @@ def staleness(result: RankResult, ranked: Layout, layout: Layout, objective: str
     """Why the result on show no longer describes the open layout ("" when it does)."""
     if result.options and not fits(result.options[0], ranked, layout):
         return "the layout changed since this ranking (not only positions): r ranks again"
-    if objective is None and not math.isclose(result.distance_mm, distance_mm):
+    on_curve = objective in (None, CONTOUR) and result.objective.startswith("contour")
+    if on_curve and not math.isclose(result.distance_mm, distance_mm):
         return (f"ranked at d {result.distance_mm:g} mm, d is now {distance_mm:g} mm: "
                 "r ranks again")
     if layout != ranked:

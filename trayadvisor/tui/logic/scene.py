@@ -8,6 +8,7 @@ nothing here computes a field.
 Style keys (hashable tuples):
 ``("px", top, bottom)`` half block with palette colours; ``("shade", band)``;
 ``("iso", digit)``; ``("tray", bg)``; ``("dot", bg)``; ``("peak", bg)``;
+``("place", bg)`` observation points, lines, areas and their names;
 ``("cond", circuit_index, emphasis, on_map)`` with emphasis 0 plain, 1 same circuit as the
 selection, 2 selected; ``("note",)``; ``None`` blank. ``bg`` is a palette index or None.
 """
@@ -16,6 +17,7 @@ from __future__ import annotations
 
 import math
 import string
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -27,6 +29,11 @@ from trayadvisor.tui.logic.viewport import Bounds, Viewport
 #: One glyph per phase label (the format's phases), so phases read without colour.
 PHASE_GLYPH: dict[str, str] = {"L1": "1", "L2": "2", "L3": "3", "N": "n", "PE": "e",
                                "L": "L", "+": "+", "-": "−", "a": "a", "b": "b"}
+#: Glyphs of the places: a point, a line's dashes (horizontal, vertical, diagonals) and an
+#: area's outline (top/bottom, sides, corners).
+POINT_GLYPH = "◆"
+LINE_GLYPHS = {"h": "╌", "v": "╎", "up": "/", "down": "\\"}
+AREA_GLYPHS = {"h": "┄", "v": "┆", "tl": "╭", "tr": "╮", "bl": "╰", "br": "╯"}
 #: Circuit tags, in circuit order: A, B, C, ...
 TAGS = string.ascii_uppercase + string.digits
 
@@ -124,7 +131,7 @@ def _scale_bar(vp: Viewport) -> str:
 def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
                 fmap: FieldMap | None = None, style: str = "colour",
                 contour_mm: np.ndarray | None = None,
-                peak_mm: tuple[float, float] | None = None) -> Scene:
+                peak_mm: tuple[float, float] | None = None, places: bool = True) -> Scene:
     """The canvas contents for one window.
 
     Parameters
@@ -138,6 +145,9 @@ def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
         Points of the curve at distance d, drawn as dots.
     peak_mm : (x, y), optional
         Where the field on that curve peaks, drawn as ``×``.
+    places : bool
+        Draw the layout's observation points (``◆`` and the name), lines (dashes) and areas
+        (rounded dashed outlines, the name on the top edge), under trays and conductors.
     """
     cols, nrows = vp.cols, vp.rows
     if fmap is not None:
@@ -159,6 +169,8 @@ def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
         inside = (cc >= 0) & (cc < cols) & (rr >= 0) & (rr < nrows)
         for c, r in set(zip(cc[inside].tolist(), rr[inside].tolist(), strict=True)):
             put(c, r, "·", "dot")
+    if places:
+        _draw_places(layout, vp, put)
     for t in layout.trays:
         x0, y0, x1, y1 = t.bounds
         c0, c1 = vp.col_of(x0), vp.col_of(x1)
@@ -236,3 +248,85 @@ def _place_conductors(layout: Layout, vp: Viewport, selected: str | None,
                     rows[row][x] = (ch, key)
                 break
     return hidden
+
+
+def _label(put: Callable[[int, int, str, str], None], col: int, row: int, text: str,
+           cols: int) -> None:
+    """Write ``text`` from ``col`` on ``row`` when all of it fits inside the window."""
+    if 0 <= col and col + len(text) <= cols:
+        for k, ch in enumerate(text):
+            put(col + k, row, ch, "place")
+
+
+def _clip(p0: tuple[float, float], p1: tuple[float, float], bounds: Bounds
+          ) -> tuple[float, float] | None:
+    """The parameter range [t0, t1] of the segment p0→p1 inside ``bounds`` (Liang-Barsky),
+    or None when it misses the window."""
+    x0, y0, x1, y1 = bounds
+    dx, dy = p1[0] - p0[0], p1[1] - p0[1]
+    t0, t1 = 0.0, 1.0
+    for p, q in ((-dx, p0[0] - x0), (dx, x1 - p0[0]), (-dy, p0[1] - y0), (dy, y1 - p0[1])):
+        if p == 0:
+            if q < 0:
+                return None
+            continue
+        t = q / p
+        if p < 0:
+            t0 = max(t0, t)
+        else:
+            t1 = min(t1, t)
+    return (t0, t1) if t0 <= t1 else None
+
+
+def _draw_places(layout: Layout, vp: Viewport, put: Callable[[int, int, str, str], None]
+                 ) -> None:
+    """Areas (outline, name on the top edge or the first row shown), lines (dashes, name at
+    the first end shown) and points (``◆`` and the name), clipped to the window."""
+    cols, nrows = vp.cols, vp.rows
+    for a in layout.areas:
+        c0, c1 = vp.col_of(a.x0_mm), vp.col_of(a.x1_mm)
+        r0, r1 = vp.row_of(a.y1_mm), vp.row_of(a.y0_mm)
+        if c1 < 0 or c0 >= cols or r1 < 0 or r0 >= nrows:
+            continue
+        for c in range(max(c0, 0), min(c1, cols - 1) + 1):
+            put(c, r0, AREA_GLYPHS["h"], "place")
+            put(c, r1, AREA_GLYPHS["h"], "place")
+        for r in range(max(r0, 0), min(r1, nrows - 1) + 1):
+            put(c0, r, AREA_GLYPHS["v"], "place")
+            put(c1, r, AREA_GLYPHS["v"], "place")
+        for c, r, k in ((c0, r0, "tl"), (c1, r0, "tr"), (c0, r1, "bl"), (c1, r1, "br")):
+            put(c, r, AREA_GLYPHS[k], "place")
+        start = max(c0, 0) + 1
+        if min(c1, cols) - start >= len(a.name) + 1:
+            _label(put, start, max(r0, 0), a.name, cols)
+    for ln in layout.lines:
+        p0, p1 = (ln.x0_mm, ln.y0_mm), (ln.x1_mm, ln.y1_mm)
+        span = _clip(p0, p1, vp.bounds_mm)
+        if span is None:
+            continue
+        (ca, ra), (cb, rb) = vp.cell_of(*p0), vp.cell_of(*p1)
+        dc, dr = cb - ca, rb - ra
+        if abs(dr) * 4 <= abs(dc):
+            glyph = LINE_GLYPHS["h"]
+        elif abs(dc) * 4 <= abs(dr):
+            glyph = LINE_GLYPHS["v"]
+        else:
+            glyph = LINE_GLYPHS["up"] if (dc > 0) != (dr > 0) else LINE_GLYPHS["down"]
+        xa = p0[0] + span[0] * (p1[0] - p0[0])
+        ya = p0[1] + span[0] * (p1[1] - p0[1])
+        xb = p0[0] + span[1] * (p1[0] - p0[0])
+        yb = p0[1] + span[1] * (p1[1] - p0[1])
+        n = 2 * max(abs(vp.col_of(xb) - vp.col_of(xa)), abs(vp.row_of(yb) - vp.row_of(ya))) + 2
+        first = None
+        for t in np.linspace(0.0, 1.0, n):
+            c, r = vp.cell_of(xa + t * (xb - xa), ya + t * (yb - ya))
+            if 0 <= c < cols and 0 <= r < nrows:
+                put(c, r, glyph, "place")
+                first = first or (c, r)
+        if first is not None:
+            _label(put, first[0] + 1, first[1], ln.name, cols)
+    for p in layout.points:
+        c, r = vp.cell_of(p.x_mm, p.y_mm)
+        if 0 <= c < cols and 0 <= r < nrows:
+            put(c, r, POINT_GLYPH, "place")
+            _label(put, c + 1, r, p.name, cols)

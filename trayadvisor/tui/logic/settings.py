@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 from trayadvisor.coupling import CURRENT_MODELS
 from trayadvisor.engine import DEFAULT_DISTANCE_MM
-from trayadvisor.limits import all_limits
+from trayadvisor.limits import all_limits, by_id, resolve_limit
 from trayadvisor.model import Layout, Limit
 
 #: Name given to a limit typed in (``edit --limit-ut`` or the settings form).
@@ -60,9 +60,10 @@ class ViewSettings:
 
 
 def available_limits(layout: Layout, typed_uT: float | None = None) -> tuple[Limit, ...]:
-    """The limits offered: the library's (valid at the layout's frequency), the layout's
-    own ``[[limit]]`` entries, and a typed-in one."""
-    found = all_limits(layout)
+    """The limits offered on the curve at d: the library's AC levels (valid at the layout's
+    frequency), the layout's own ``[[limit]]`` entries that name no place (those bound to
+    places are judged there: the Field view's places panel), and a typed-in one."""
+    found = tuple(lim for lim in all_limits(layout) if not lim.places)
     if typed_uT is not None:
         found += (Limit(TYPED_LIMIT, float(typed_uT), "typed in"),)
     return found
@@ -81,3 +82,24 @@ def chosen_limit(settings: ViewSettings, limits: tuple[Limit, ...],
         if own.name in by_name:
             return by_name[own.name]
     return limits[0] if limits else None
+
+
+def limit_level_uT(limit: Limit, frequency_hz: float) -> float | None:
+    """The level a limit judges against at the layout's frequency (a library entry's own
+    value, the static level for the DC band), or None when it cannot be judged."""
+    try:
+        return resolve_limit(limit, frequency_hz).limit_uT
+    except (ValueError, TypeError):
+        return None
+
+
+def limit_kind(limit: Limit) -> str:
+    """The kind a limit judges as: its own, else its library entry's, else "target"."""
+    if limit.kind is not None:
+        return limit.kind
+    if limit.library is not None:
+        try:
+            return by_id(limit.library).kind
+        except KeyError:
+            return "target"
+    return "target"

@@ -13,14 +13,16 @@ from trayadvisor.tui.logic import edits
 from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm, TrayForm
+from trayadvisor.tui.screens.placemenu import PlaceEditing
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 
 #: A new circuit's defaults when the user adds one.
 _NEW_CIRCUIT = Circuit(name="C1", system="ac3", current_a=100.0)
 
 
-class EditingScreen(WorkScreen):
-    """A view with the cross-section canvas and the editing keys."""
+class EditingScreen(PlaceEditing, WorkScreen):
+    """A view with the cross-section canvas and the editing keys (``p``: the places menu,
+    :mod:`trayadvisor.tui.screens.placemenu`)."""
 
     BINDINGS = [
         Binding("a", "add", "Add", id="edit.add",
@@ -58,6 +60,8 @@ class EditingScreen(WorkScreen):
                 tooltip="pan up"),
         Binding("j", "pan(0, -1)", "Pan down", show=False, id="pan.down",
                 tooltip="pan down"),
+        Binding("p", "places", "Places", id="edit.places",
+                tooltip="title, frequency, points, lines, areas and limits (menu)"),
         Binding("d", "settings", "Distance", id="settings.open",
                 tooltip="distance d, limit, move step, map style"),
     ]

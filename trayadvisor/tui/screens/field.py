@@ -17,11 +17,12 @@ from textual.worker import get_current_worker
 from trayadvisor.model import Layout
 from trayadvisor.tui.logic.compute import map_grid
 from trayadvisor.tui.logic.mapscale import MapScale
+from trayadvisor.tui.logic.placetext import place_lines
 from trayadvisor.tui.logic.scene import FieldMap
 from trayadvisor.tui.logic.viewport import Viewport
 from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
-from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend
+from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend, PanelScroll, PlacesPanel
 
 
 @dataclass(frozen=True)
@@ -37,7 +38,9 @@ class FieldScreen(EditingScreen):
 
     VIEW_NAME = "field"
     BINDINGS = [Binding("m", "map_style", "Map style", show=False, id="map.style",
-                tooltip="map: colour, or shading + iso digits")]
+                tooltip="map: colour, or shading + iso digits"),
+                Binding("v", "toggle_places", "Places panel", show=False, id="field.places",
+                        tooltip="side: the map legend, or every place with its limits")]
 
     class GridReady(Message):
         def __init__(self, key: _GridKey, values: np.ndarray) -> None:
@@ -59,6 +62,8 @@ class FieldScreen(EditingScreen):
         with Vertical(id="side"):
             yield FieldReadout(id="readout")
             yield MapLegend(id="legend")
+            with PanelScroll(id="places-scroll", can_focus=False):
+                yield PlacesPanel(id="places")
 
     def on_mount(self) -> None:
         super().on_mount()
@@ -96,8 +101,22 @@ class FieldScreen(EditingScreen):
         app = self.tapp
         lim = app.chosen_limit()
         self.query_one(FieldReadout).show(app.summary, lim, app.figure_for(lim),
-                                          app.results_pending())
+                                          app.results_pending(),
+                                          app.document.layout.frequency_hz)
         self.query_one(MapLegend).show(self.scale(), app.settings.map_style)
+        self.query_one(PlacesPanel).show(place_lines(app.summary, app.document.layout,
+                                                     app.summary_key != app.analysis_key()))
+
+    def action_toggle_places(self) -> None:
+        """Show every place with its limits beside the map (wider side, focused: ↑↓ scroll,
+        Tab back to the drawing), or the legend (the drawing focused)."""
+        show = not self.has_class("show-places")
+        self.set_class(show, "show-places")
+        # The panel is always laid out (height 0 when hidden), so ↑↓ typed right after v
+        # scroll it; it takes the focus at once, so they reach it.
+        scroll = self.query_one("#places-scroll", PanelScroll)
+        scroll.can_focus = show
+        self.set_focus(scroll if show else self.query_one(SectionCanvas))
 
     def settings_changed(self) -> None:
         super().settings_changed()

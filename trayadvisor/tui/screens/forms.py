@@ -12,7 +12,7 @@ from __future__ import annotations
 import contextlib
 import math
 import re
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from typing import Any, TypeVar
 
 from textual import on
@@ -63,7 +63,8 @@ class FormScreen(Dialog[T]):
             yield Static(self.TITLE_TEXT, classes="form-title")
             for label, widget in self.fields():
                 if widget.has_class("wide"):  # a list under its own heading, full width
-                    yield Label(label, markup=False, classes="form-heading")
+                    if label:
+                        yield Label(label, markup=False, classes="form-heading")
                     yield widget
                     continue
                 with Horizontal(classes="form-row"):
@@ -76,18 +77,35 @@ class FormScreen(Dialog[T]):
                     yield Button("Delete", id="delete", variant="error", compact=True)
                 yield Button("Cancel", id="cancel", compact=True)
 
+    #: An optional check of the whole layout with the form's result in it (or "delete"):
+    #: returns the one-line problem that refuses it, or None. The form stays open, with
+    #: everything typed, when it refuses.
+    checker: Callable[[Any], str | None] | None = None
+
     def build(self) -> T:
         raise NotImplementedError
 
     def accept(self) -> None:
         try:
             value = self.build()
+            self.check(value)
         except FormError as err:
-            self.query_one("#form-error", Static).update(f"✖ {err}")
-            with contextlib.suppress(NoMatches):
-                self.query_one(f"#{err.field}").focus()
+            self.show_error(err)
             return
         self.dismiss(value)
+
+    def check(self, value: Any) -> None:
+        """Raise FormError when :attr:`checker` refuses ``value``."""
+        problem = self.checker(value) if self.checker is not None else None
+        if problem:
+            raise FormError("", problem)
+
+    def show_error(self, err: FormError) -> None:
+        """Name the problem on the error line and focus the field it is about."""
+        self.query_one("#form-error", Static).update(f"✖ {err}")
+        if err.field:
+            with contextlib.suppress(NoMatches):
+                self.query_one(f"#{err.field}").focus()
 
     def action_cancel(self) -> None:
         self.dismiss(None)
@@ -101,6 +119,11 @@ class FormScreen(Dialog[T]):
         if event.button.id == "ok":
             self.accept()
         elif event.button.id == "delete":
+            try:
+                self.check("delete")
+            except FormError as err:
+                self.show_error(err)
+                return
             self.dismiss("delete")  # type: ignore[arg-type]
         else:
             self.dismiss(None)
@@ -279,12 +302,15 @@ class TrayForm(FormScreen[Tray | str | None]):
 
 
 def limit_row(lim: Limit, figure: LimitFigure | None) -> str:
-    """One line of the limit list: verdict at d, value, name, clearance distance."""
-    name = lim.name if len(lim.name) <= 26 else lim.name[:25] + "…"
+    """One line of the limit list: verdict at d, value, name, kind, clearance distance."""
+    name = lim.name if len(lim.name) <= 20 else lim.name[:19] + "…"
+    level = lim.value_uT if figure is None else figure.limit_uT
+    value = "?" if level is None else fmt_uT(level)
     if figure is None:
-        return f" …  {fmt_uT(lim.value_uT):>6} µT  {name:<26}  (computing)"
+        return f" …  {value:>6} µT  {name:<20}  (computing)"
     verdict = "pass" if figure.passes else "FAIL"
-    return f"{verdict} {fmt_uT(lim.value_uT):>6} µT  {name:<26}  {fmt_mm(figure.clearance_mm)}"
+    return (f"{verdict} {value:>6} µT  {name:<20} {figure.kind[:8]:<8} "
+            f"{fmt_mm(figure.clearance_mm)}")
 
 
 class SettingsForm(FormScreen[ViewSettings | None]):

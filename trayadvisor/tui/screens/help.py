@@ -20,7 +20,18 @@ GLYPHS = (
     "The selected conductor is highlighted, its circuit underlined. "
     "· = the curve at distance d outside the tray envelope, × = where the field on it "
     "peaks. The Field map shades the resultant RMS field on a log scale; digits 1-4 mark "
-    "the iso-levels named in the legend."
+    "the iso-levels named in the legend. Places: ◆ = an observation point, ╌ = a line, a "
+    "rounded dashed outline = an area, each with its name."
+)
+
+LIMITS = (
+    "Limits judge the AC field (fundamental and harmonics) or, in the DC band, the static "
+    "field; index = field / limit, pass when it is 1 or less, margin = -20·log10(index) dB. "
+    "A library exposure level uses the multi-frequency sum over the harmonics. Exposure "
+    "limits are for people, immunity levels are for equipment (an immunity level is never an "
+    "exposure limit), and targets are the project's own. The library values are partly "
+    "recalled: check them against your copy of each document. A pass here is not compliance: "
+    "follow the local wiring rules, the applicable exposure regulations and licensed practice."
 )
 
 
@@ -58,9 +69,19 @@ class HelpScreen(Dialog[None]):
                  "the objective and a time budget.\n"
                  "  The Coupling view takes the Section view's editing keys; its figures "
                  "follow every move. The worst values are marked in words (◀ ...).\n"
-                 "  R writes the report of the open layout from any view.\n\n")
+                 "  R writes the report of the open layout from any view.\n"
+                 "  p (Section, Field, Coupling) opens the places menu: the title and "
+                 "frequency, every point, line, area and limit (Enter edits; the forms' "
+                 "Delete removes), and rows that add one. A limit is a level in µT or a "
+                 "library entry, with its kind, band and the places it applies at (none: "
+                 "the curve at d).\n"
+                 "  In the Field view, v shows every place with its AC and DC maxima and "
+                 "each bound limit's kind, index, margin and pass/FAIL (↑↓ scroll it, Tab "
+                 "back to the drawing).\n\n")
         t.append("Drawing\n", style="bold")
         t.append(GLYPHS + "\n\n")
+        t.append("Limits\n", style="bold")
+        t.append(LIMITS + "\n\n")
         t.append(CAUTION_LINE + "\n")
         return t
 

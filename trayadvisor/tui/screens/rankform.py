@@ -10,12 +10,19 @@ from textual.widget import Widget
 from textual.widgets import Input, Select, Static
 
 from trayadvisor.model import Layout
-from trayadvisor.tui.logic.ranktable import CONTOUR, MAX_TOP_K, RankParams, objective_choices
+from trayadvisor.tui.logic.ranktable import (
+    CONTOUR,
+    LIMITS,
+    MAX_TOP_K,
+    RankParams,
+    objective_choices,
+)
 from trayadvisor.tui.screens.forms import FormError, FormScreen
 
 
 class RankForm(FormScreen[RankParams | None]):
-    """Top K, objective (the contour at d or a named line/point) and time budget."""
+    """Top K, objective (the worst limit index at places, the contour at d or a named
+    line/point) and time budget."""
 
     TITLE_TEXT = "Ranking: what to search for"
 
@@ -28,7 +35,8 @@ class RankForm(FormScreen[RankParams | None]):
         yield "Top K options", Input(str(p.top_k), id="top", compact=True)
         choices = objective_choices(self.lay)
         values = [v for _, v in choices]
-        value = p.objective if p.objective in values else CONTOUR
+        value = (p.objective if p.objective in values
+                 else LIMITS if LIMITS in values else CONTOUR)
         yield "Objective", Select(choices, value=value, allow_blank=False, id="objective",
                                   compact=True)
         yield "Time budget s", Input("" if p.budget_s is None else f"{p.budget_s:g}",
@@ -53,7 +61,8 @@ class RankForm(FormScreen[RankParams | None]):
         imbalance = self.number("imbalance", "imbalance limit", "%", 0.0, strict=True,
                                 optional=True)
         emf = self.number("emf", "victim EMF limit", "mV/m", 0.0, strict=True, optional=True)
-        return RankParams(top, None if objective in (None, CONTOUR) else str(objective),
+        default = LIMITS if LIMITS in {v for _, v in objective_choices(self.lay)} else CONTOUR
+        return RankParams(top, None if objective in (None, default) else str(objective),
                           budget, math.inf if imbalance is None else imbalance,
                           math.inf if emf is None else emf)
 

@@ -38,6 +38,7 @@ from trayadvisor.tui.logic.ranktable import (
     run_notes,
     staleness,
     usable_params,
+    value_text,
 )
 from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
@@ -52,6 +53,11 @@ APPLY_CAUTION = ("The ranking looks at the stray field only. It does not check a
                  "grouping derating, voltage drop, fault withstand or segregation of the new "
                  "arrangement: defer to the local wiring rules. u undoes.")
 
+
+
+def _unit(result: RankResult) -> str:
+    """The unit word of a ranking's values: 'µT', or 'worst limit index'."""
+    return "µT" if result.unit == "µT" else "worst limit index"
 
 class RankProgress(Message):
     """How far run ``run`` has got; a newer one replaces a queued older one."""
@@ -141,7 +147,8 @@ class RankingScreen(WorkScreen):
         app = self.tapp
         lim = app.chosen_limit()
         self.query_one("#readout", FieldReadout).show_brief(
-            app.summary, lim, app.figure_for(lim), app.results_pending())
+            app.summary, lim, app.figure_for(lim), app.results_pending(),
+            app.document.layout.frequency_hz)
 
     def settings_changed(self) -> None:
         super().settings_changed()
@@ -158,7 +165,8 @@ class RankingScreen(WorkScreen):
     def show_info(self) -> None:
         app = self.tapp
         p = usable_params(self.params, app.document.layout)
-        head = (f"Objective: {objective_text(p.objective, app.settings.distance_mm)} · top "
+        what = objective_text(p.objective, app.settings.distance_mm, app.document.layout)
+        head = (f"Objective: {what} · top "
                 f"{p.top_k}" + (f" · budget {p.budget_s:g} s" if p.budget_s else ""))
         if self.running:
             lines = [head, "ranking… Esc stops and keeps the best found so far"]
@@ -202,8 +210,9 @@ class RankingScreen(WorkScreen):
         canvas.show(CanvasContent(self.previews[index]))
         opt = self.result.options[index]
         lines = option_lines(self.result, opt, len(self.previews[index].conductors))
-        if self.ranked_params.objective is not None:  # not the stray field at d: say so
-            lines.insert(2, f" ({objective_text(self.ranked_params.objective, 0.0)})")
+        if not self.result.objective.startswith("contour"):  # not the field at d: say so
+            lines.insert(2, " (" + objective_text(self.ranked_params.objective, 0.0,
+                                                  self.ranked) + ")")
         lines.append("Now (the open layout):")
         figures.update(Text("\n".join(lines), no_wrap=True, overflow="ellipsis"),
                        layout=False)
@@ -315,8 +324,9 @@ class RankingScreen(WorkScreen):
             return
         best = r.options[0]
         early = "stopped early, best found so far: " if r.stopped_early else ""
-        app.set_status(f"{early}{len(r.options)} option(s), best {fmt_uT(best.max_resultant_uT)}"
-                       f" µT ({fmt_fixed(best.reduction_pct)} % lower); a applies the "
+        app.set_status(f"{early}{len(r.options)} option(s), best "
+                       f"{value_text(r, best.max_resultant_uT)} {_unit(r)} "
+                       f"({fmt_fixed(best.reduction_pct)} % lower); a applies the "
                        "highlighted one")
 
     # -- applying and saving ----------------------------------------------------------------
@@ -339,10 +349,12 @@ class RankingScreen(WorkScreen):
             app.set_status(f"the open layout already has option {opt.rank}")
             return
         app.apply_edit(new, f"apply ranked option {opt.rank}")
-        what = objective_text(self.ranked_params.objective, self.result.distance_mm
-                              if self.result else app.settings.distance_mm)
-        app.set_status(f"applied option {opt.rank}: {fmt_uT(opt.max_resultant_uT)} µT {what};"
-                       " u undoes")
+        r = self.result
+        what = objective_text(self.ranked_params.objective, r.distance_mm
+                              if r else app.settings.distance_mm, self.ranked)
+        value = (f"{value_text(r, opt.max_resultant_uT)} {_unit(r)}" if r
+                 else f"{fmt_uT(opt.max_resultant_uT)} µT")
+        app.set_status(f"applied option {opt.rank}: {value} {what}; u undoes")
         app.notify(APPLY_CAUTION, title=f"Option {opt.rank} applied", severity="warning",
                    timeout=8)
 

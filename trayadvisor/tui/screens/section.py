@@ -39,7 +39,8 @@ class SectionScreen(EditingScreen):
         app = self.tapp
         lim = app.chosen_limit()
         self.query_one(FieldReadout).show_brief(app.summary, lim, app.figure_for(lim),
-                                                app.results_pending())
+                                                app.results_pending(),
+                                                app.document.layout.frequency_hz)
 
     def settings_changed(self) -> None:
         super().settings_changed()

@@ -248,6 +248,8 @@ class SectionCanvas(Widget, can_focus=True):
         bg = _PALETTE[key[1]] if len(key) == 2 and key[1] is not None else None
         if kind == "tray":
             return Style(color="grey85", bgcolor=bg)
+        if kind == "place":
+            return Style(color="#87ffff", bgcolor=bg, bold=True)
         if kind == "dot":
             return Style(color="white", bgcolor=bg, bold=True)
         if kind == "peak":

@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from rich.text import Text
+from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.widgets import OptionList, Static
 from textual.widgets.option_list import Option
@@ -19,7 +20,9 @@ from trayadvisor.model import Conductor, Layout, Limit
 from trayadvisor.output import decay_text, fmt_mm, fmt_uT
 from trayadvisor.tui.logic.couplingtext import Line
 from trayadvisor.tui.logic.mapscale import DECADES, MapScale, fmt_level, palette
+from trayadvisor.tui.logic.placetext import KIND_MEANING
 from trayadvisor.tui.logic.scene import PHASE_GLYPH, circuit_tags
+from trayadvisor.tui.logic.settings import limit_kind, limit_level_uT
 
 
 def order_text(order: int | None) -> str:
@@ -190,47 +193,61 @@ def currents_text(summary: FieldSummary) -> str:
 
 
 def readout_lines(summary: FieldSummary | None, limit: Limit | None,
-                  figure: LimitFigure | None, pending: bool) -> list[tuple[str, str]]:
+                  figure: LimitFigure | None, pending: bool,
+                  frequency_hz: float = 50.0) -> list[tuple[str, str]]:
     """(text, style) lines of the field readouts; ``pending``: the figure is older than the
     model (a newer one is being computed)."""
     if summary is None:
         return [("computing the field…", "")]
     s = summary
     lines = [(f"Stray field at d = {s.distance_mm:g} mm", "bold"),
-             (f" {fmt_uT(s.max_resultant_uT)} µT resultant RMS", "bold"),
-             (f" peak at x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f} mm", ""),
-             (f"Far field {order_text(s.far_field_order)}", ""),
-             (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", ""),
-             (currents_text(s), "")]
+             (f" {fmt_uT(s.max_resultant_uT)} µT AC resultant RMS", "bold")]
+    if s.dc_max_uT > 0:
+        lines.append((f" DC {fmt_uT(s.dc_max_uT)} µT (static field)", ""))
+    lines += [(f" peak at x {s.max_at_mm[0]:.0f}, y {s.max_at_mm[1]:.0f} mm", ""),
+              (f"Far field {order_text(s.far_field_order)}", ""),
+              (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", ""),
+              (currents_text(s), "")]
     if limit is None:
         lines.append(("No limit chosen (d sets one)", ""))
         return lines
     lines.append((f"Limit {limit.name}", "bold"))
+    kind = figure.kind if figure is not None else limit_kind(limit)
+    band = figure.band if figure is not None else (limit.band or "ac")
+    lines.append((f" {KIND_MEANING.get(kind, kind)}{', DC' if band == 'dc' else ''}", ""))
     wait = " …" if pending or figure is None else ""
     if figure is None:
-        lines.append((f" {fmt_uT(limit.value_uT)} µT  checking…", ""))
+        lines.append((f" {level_text(limit, frequency_hz)} µT  checking…", ""))
         return lines
     verdict = "PASS" if figure.passes else "FAIL"
-    lines.append((f" {fmt_uT(limit.value_uT)} µT  {verdict} at d{wait}", "bold"))
+    lines.append((f" {fmt_uT(figure.limit_uT)} µT  {verdict} at d{wait}", "bold"))
     lines.append((f" clearance {fmt_mm(figure.clearance_mm)}", ""))
     return lines
+
+
+def level_text(limit: Limit, frequency_hz: float) -> str:
+    """A limit's level in µT as text ("?" when it cannot be judged)."""
+    level = limit_level_uT(limit, frequency_hz)
+    return "?" if level is None else fmt_uT(level)
 
 
 class FieldReadout(Static):
     """Stray field at d, where it peaks, far-field order, the chosen limit's verdict."""
 
     def show(self, summary: FieldSummary | None, limit: Limit | None,
-             figure: LimitFigure | None, pending: bool = False) -> None:
+             figure: LimitFigure | None, pending: bool = False,
+             frequency_hz: float = 50.0) -> None:
         t = Text(no_wrap=True, overflow="ellipsis")
-        for k, (line, style) in enumerate(readout_lines(summary, limit, figure, pending)):
+        for k, (line, style) in enumerate(readout_lines(summary, limit, figure, pending,
+                                                        frequency_hz)):
             if k:
                 t.append("\n")
             t.append(line, style=style)
         self.update(t, layout=False)
 
-
     def show_brief(self, summary: FieldSummary | None, limit: Limit | None,
-                   figure: LimitFigure | None, pending: bool = False) -> None:
+                   figure: LimitFigure | None, pending: bool = False,
+                   frequency_hz: float = 50.0) -> None:
         """Three lines for the Section view: stray field at d, verdict, far-field order."""
         t = Text(no_wrap=True, overflow="ellipsis")
         if summary is None:
@@ -242,11 +259,11 @@ class FieldReadout(Static):
         if limit is None:
             t.append("no limit chosen (d)")
         elif figure is None:
-            t.append(f"{fmt_uT(limit.value_uT)} µT {limit.name}: checking…")
+            t.append(f"{level_text(limit, frequency_hz)} µT {limit.name}: checking…")
         else:
             wait = " …" if pending else ""
             t.append(f"{'PASS' if figure.passes else 'FAIL'}{wait}", style="bold")
-            t.append(f" {fmt_uT(limit.value_uT)} µT {limit.name}")
+            t.append(f" {fmt_uT(figure.limit_uT)} µT {limit.name}")
         t.append(f"\nfar field {order_text(summary.far_field_order)}")
         self.update(t, layout=False)
 
@@ -273,13 +290,14 @@ class MapLegend(Static):
             e = scale.edges_uT
             t.append("iso " + " ".join(f"{k + 1}={fmt_level(v)}" for k, v in enumerate(e)))
             t.append("\n")
-        t.append("· contour at d  × peak")
+        t.append("· contour at d  × peak\n")
+        t.append("◆ point ╌ line ┄ area\nv: places and their limits")
         self.update(t, layout=False)
 
 
 #: Styles of the coupling panel's line kinds; its words and markers carry the meaning alone.
 _STYLES = {"head": "bold", "worst": "bold yellow", "warning": "bold red", "note": "dim",
-           "row": ""}
+           "row": "", "pass": "bold green", "fail": "bold red"}
 
 
 class CouplingPanel(Static):
@@ -295,3 +313,34 @@ class CouplingPanel(Static):
         if pending:
             t.append("\n…", style="dim")
         self.update(t)
+
+
+class PlacesPanel(Static):
+    """Every place with its AC and DC maxima and each bound limit's verdict: the lines of
+    :func:`trayadvisor.tui.logic.placetext.place_lines`, styled by kind (the words carry
+    the verdict; colour only helps)."""
+
+    def show(self, lines: list[Line]) -> None:
+        t = Text()
+        for k, line in enumerate(lines):
+            if k:
+                t.append("\n")
+            t.append(line.text, style=_STYLES.get(line.kind, ""))
+        self.update(t)
+
+
+class PanelScroll(VerticalScroll):
+    """A scrolling panel whose ↑↓ keys move at once: keys typed in a burst each count (the
+    default, deferred until the next refresh, loses some)."""
+
+    def _step(self, dy: int) -> None:
+        # Set the offset itself: scroll_to does nothing before the first layout at the
+        # panel's shown size, which keys typed with the key that shows it arrive before.
+        y = max(0, min(self.scroll_target_y + dy, self.max_scroll_y))
+        self.scroll_target_y = self.scroll_y = y
+
+    def action_scroll_down(self) -> None:
+        self._step(1)
+
+    def action_scroll_up(self) -> None:
+        self._step(-1)
