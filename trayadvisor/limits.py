@@ -173,6 +173,11 @@ def _iec(level: int, a_per_m: float, use: str) -> LibraryLimit:
         f"equipment immunity test level, {use}; " + _IEC_NOTE.format(h=a_per_m, b=b))
 
 
+#: ICNIRP 2010 occupational reference levels, which Directive 2013/35/EU's low action levels
+#: repeat (the 25-300 Hz plateau checked for both; the rest recalled).
+_WORKERS = _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0, True),
+                   (300.0, 3000.0, 3.0e5, 1), (3000.0, 1.0e7, 100.0, 0))
+
 #: The library: AC exposure levels, static exposure levels, then immunity levels.
 LIBRARY: tuple[LibraryLimit, ...] = (
     LibraryLimit(
@@ -184,15 +189,13 @@ LIBRARY: tuple[LibraryLimit, ...] = (
         + _ICNIRP_COPY.format(plateau="2e-4 T", top=400)),
     LibraryLimit(
         "icnirp-2010-occupational", "ICNIRP 2010 occupational", "exposure", "ac",
-        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0, True),
-                (300.0, 3000.0, 3.0e5, 1), (3000.0, 1.0e7, 100.0, 0)),
+        _WORKERS,
         _ICNIRP + ", Table 3",
         "reference level, occupational exposure (800 A/m at 25-300 Hz); recalled in part: "
         + _ICNIRP_COPY.format(plateau="1e-3 T", top=300)),
     LibraryLimit(
         "eu-2013-35-low", "2013/35/EU low AL", "exposure", "ac",
-        _pieces((1.0, 8.0, 2.0e5, 2), (8.0, 25.0, 2.5e4, 1), (25.0, 300.0, 1000.0, 0, True),
-                (300.0, 3000.0, 3.0e5, 1), (3000.0, 1.0e7, 100.0, 0)),
+        _WORKERS,
         _EU,
         "workers, low action level (sensory effects); the 1000 µT plateau (25 Hz to 300 Hz) "
         "was checked against the Norwegian transposition's table of lower action values; the "

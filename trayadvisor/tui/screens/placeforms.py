@@ -81,6 +81,13 @@ class PointForm(_PlaceForm):
                                 self.number("y", "y", "mm") or 0.0)
 
 
+def _corners(words: tuple[str, ...], values: tuple[float, ...]
+             ) -> Iterable[tuple[str, Widget]]:
+    """The x0, y0, x1, y1 fields of a line or an area, each labelled with its word."""
+    for key, word, v in zip(("x0", "y0", "x1", "y1"), words, values, strict=True):
+        yield f"{key} mm ({word})", Input(_text(v), id=key, compact=True)
+
+
 class LineForm(_PlaceForm):
     """A straight line from (x0, y0) to (x1, y1), sampled at ``samples`` points."""
 
@@ -90,10 +97,8 @@ class LineForm(_PlaceForm):
         ln = self.place
         assert isinstance(ln, ObservationLine)
         yield "Name", Input(ln.name, id="name", compact=True)
-        yield "x0 mm (start)", Input(_text(ln.x0_mm), id="x0", compact=True)
-        yield "y0 mm (start)", Input(_text(ln.y0_mm), id="y0", compact=True)
-        yield "x1 mm (end)", Input(_text(ln.x1_mm), id="x1", compact=True)
-        yield "y1 mm (end)", Input(_text(ln.y1_mm), id="y1", compact=True)
+        yield from _corners(("start", "start", "end", "end"),
+                            (ln.x0_mm, ln.y0_mm, ln.x1_mm, ln.y1_mm))
         yield "Samples", Input(str(ln.samples), id="samples", compact=True)
 
     def build(self) -> ObservationLine:
@@ -114,10 +119,8 @@ class AreaForm(_PlaceForm):
         a = self.place
         assert isinstance(a, ObservationArea)
         yield "Name", Input(a.name, id="name", compact=True)
-        yield "x0 mm (left)", Input(_text(a.x0_mm), id="x0", compact=True)
-        yield "y0 mm (bottom)", Input(_text(a.y0_mm), id="y0", compact=True)
-        yield "x1 mm (right)", Input(_text(a.x1_mm), id="x1", compact=True)
-        yield "y1 mm (top)", Input(_text(a.y1_mm), id="y1", compact=True)
+        yield from _corners(("left", "bottom", "right", "top"),
+                            (a.x0_mm, a.y0_mm, a.x1_mm, a.y1_mm))
 
     def build(self) -> ObservationArea:
         name = self.place_name()
