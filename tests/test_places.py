@@ -278,3 +278,21 @@ def test_field_json_places_shape(capsys, tmp_path):
     ids = {r["id"]: r for r in json.loads(capsys.readouterr().out)["library"]}
     assert ids["iec-61000-4-8-level-1"]["kind"] == "immunity"
     assert ids["eu-2013-35-static-implants"]["band"] == "dc"
+
+
+def test_field_maps_leave_the_static_field_out():
+    from trayadvisor.engine import field_grid_uT, layout_sources
+
+    ac = parse_layout(FLAT_WITH_NEUTRAL)
+    both = parse_layout(FLAT_WITH_NEUTRAL + '[[circuit]]\nname = "B"\nsystem = "dc"\n'
+                        'current_a = 300\n' + conductor("p", "B", "+", 260)
+                        + conductor("m", "B", "-", 285, d=10))
+    bounds = (-500.0, -500.0, 800.0, 800.0)
+    g_ac = field_grid_uT(ac, bounds, 40, 30)
+    g_both = field_grid_uT(both, bounds, 40, 30, layout_sources(both))
+    # the DC link adds a static field only: the AC map is the same to rounding
+    assert np.allclose(g_both, g_ac, rtol=1e-12, atol=0)
+    # Source: the long-wire formula above at a cell centre (the 1st column, 1st row)
+    x, y = -500.0 + 0.5 * 1300 / 40, -500.0 + 0.5 * 1300 / 30
+    want = math.sqrt(sum(b_component_uT(h, x, y) ** 2 for h in (1, 3, 5, 7, 11)))
+    assert g_ac[0, 0] == pytest.approx(want, rel=1e-9)

@@ -65,8 +65,9 @@ def field_at_points_uT(src: SourceArrays, xy_mm: np.ndarray) -> tuple[np.ndarray
 
 def field_grid_uT(layout: Layout, bounds_mm: tuple[float, float, float, float], nx: int,
                   ny: int, src: SourceArrays | None = None) -> np.ndarray:
-    """Resultant RMS field (µT) on an ny × nx grid of cell centres covering ``bounds_mm``."""
-    src = src or layout_sources(layout)
+    """AC resultant RMS field (µT; fundamental and harmonics, no DC) on an ny × nx grid of
+    cell centres covering ``bounds_mm``: the field maps of the report and the UI."""
+    src, _ = split_bands(src or layout_sources(layout))
     x0, y0, x1, y1 = bounds_mm
     xs = x0 + (np.arange(nx) + 0.5) * (x1 - x0) / nx
     ys = y0 + (np.arange(ny) + 0.5) * (y1 - y0) / ny

@@ -155,10 +155,10 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
     pics = content.pictures
     pics.append(Picture("section", "Cross-section to scale: trays, conductors by circuit, "
                         "phase written in each conductor.", section_svg(layout, "fig1")))
-    pics.append(Picture("contours", "Resultant RMS field around the trays: iso-µT lines in "
+    pics.append(Picture("contours", "AC resultant RMS field around the trays: iso-µT lines in "
                         "1-2-5 steps; dashed, the curve at distance d and its maximum.",
                         contours_svg(layout, summary, grid, bounds, "fig2")))
-    pics.append(Picture("profile", "Resultant RMS field along the curve at distance d.",
+    pics.append(Picture("profile", "AC resultant RMS field along the curve at distance d.",
                         profile_svg(layout, summary, "fig3")))
     pics.append(Picture("distance", "AC stray field against distance (log-log), with the AC "
                         "limits, their clearances (triangles; for an exposure level, where its "
