@@ -210,11 +210,13 @@ async def test_title_and_frequency_are_one_undoable_edit(demo_copy: Path) -> Non
         assert "frequency" in text_of(app, "#form-error")
         await type_into(pilot, app, "#title", "Riser B (invented)")
         await type_into(pilot, app, "#frequency", "60")
+        await type_into(pilot, app, "#earth", "-150")
         await pilot.press("enter")
         await settle(app, pilot)
         await pilot.press("escape")
         lay = app.document.layout
-        assert (lay.title, lay.frequency_hz) == ("Riser B (invented)", 60.0)
+        assert (lay.title, lay.frequency_hz, lay.earth_y_mm) == ("Riser B (invented)", 60.0,
+                                                                 -150.0)
         offered = {lim.name: lim.value_uT for lim in app.limits}
         for entry in LIBRARY:                            # library levels now at 60 Hz
             if entry.band == "ac" and entry.valid_at(60.0):
@@ -222,7 +224,8 @@ async def test_title_and_frequency_are_one_undoable_edit(demo_copy: Path) -> Non
         await pilot.press("ctrl+s")
         await settle(app, pilot)
         saved = read_layout(demo_copy)
-        assert (saved.title, saved.frequency_hz) == ("Riser B (invented)", 60.0)
+        assert (saved.title, saved.frequency_hz, saved.earth_y_mm) == (
+            "Riser B (invented)", 60.0, -150.0)
         await pilot.press("u")
         await settle(app, pilot)
         assert app.document.layout == before             # both undone in one step

@@ -24,8 +24,12 @@ PLACE_KINDS: tuple[str, ...] = ("point", "line", "area")
 NEW_PLACE_ABOVE_MM = 500.0
 
 
-def set_title_frequency(layout: Layout, title: str, frequency_hz: float) -> Layout:
-    return replace(layout, title=title, frequency_hz=float(frequency_hz))
+def set_title_frequency(layout: Layout, title: str, frequency_hz: float,
+                        earth_y_mm: float | None = None) -> Layout:
+    """The layout's top-level keys: title, frequency and the earth plane's height (None:
+    no earth plane)."""
+    return replace(layout, title=title, frequency_hz=float(frequency_hz),
+                   earth_y_mm=None if earth_y_mm is None else float(earth_y_mm))
 
 
 def items(layout: Layout, kind: str) -> tuple[Any, ...]:
@@ -132,12 +136,12 @@ def apply_form(layout: Layout, kind: str, old_name: str | None, value: Any
                ) -> tuple[Layout, str]:
     """The layout after a form's result, and the undo label.
 
-    ``kind`` "layout" takes (title, frequency_hz); the others take the new item (added when
+    ``kind`` "layout" takes (title, frequency_hz, earth_y_mm); the others take the new item
+    (added when
     ``old_name`` is None, else replacing it) or "delete".
     """
     if kind == "layout":
-        title, frequency_hz = value
-        return set_title_frequency(layout, title, frequency_hz), "edit title and frequency"
+        return set_title_frequency(layout, *value), "edit title and frequency"
     if value == "delete":
         return delete_item(layout, kind, str(old_name)), f"delete {kind} {old_name}"
     if old_name is None:

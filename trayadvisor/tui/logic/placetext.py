@@ -121,7 +121,9 @@ def menu_rows(layout: Layout) -> list[tuple[str, str]]:
     """(option id, text) of the places menu: title and frequency, every point, line, area
     and limit, then the rows that add one. Option ids are ``kind:name`` (``add:kind``)."""
     title = layout.title or "(no title)"
-    out = [("layout:", f"Title and frequency: {title} · {layout.frequency_hz:g} Hz")]
+    earth = ("" if layout.earth_y_mm is None
+             else f" · earth plane y {layout.earth_y_mm:g} mm")
+    out = [("layout:", f"Title and frequency: {title} · {layout.frequency_hz:g} Hz{earth}")]
     out += [(f"point:{p.name}", f"point {p.name}  x {_mm(p.x_mm)}, y {_mm(p.y_mm)} mm")
             for p in layout.points]
     out += [(f"line:{ln.name}", f"line  {ln.name}  ({_mm(ln.x0_mm)}, {_mm(ln.y0_mm)}) → "

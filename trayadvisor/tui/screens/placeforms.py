@@ -27,10 +27,11 @@ from trayadvisor.tui.screens.forms import FormError, FormScreen, _select, _text
 NO_ENTRY = "-"
 
 
-class LayoutForm(FormScreen[tuple[str, float] | None]):
-    """The layout's title and its power frequency; the result is (title, frequency_hz)."""
+class LayoutForm(FormScreen[tuple[str, float, float | None] | None]):
+    """The layout's top-level keys: title, power frequency and the height of an earth
+    reference plane (blank: none); the result is (title, frequency_hz, earth_y_mm)."""
 
-    TITLE_TEXT = "Layout title and frequency"
+    TITLE_TEXT = "Layout: title, frequency, earth plane"
 
     def __init__(self, layout: Layout) -> None:
         super().__init__()
@@ -40,10 +41,15 @@ class LayoutForm(FormScreen[tuple[str, float] | None]):
         yield "Title", Input(self.lay.title, id="title", compact=True)
         yield "Frequency Hz", Input(_text(self.lay.frequency_hz), id="frequency",
                                     compact=True)
+        earth = self.lay.earth_y_mm
+        yield "Earth plane y mm", Input("" if earth is None else _text(earth), id="earth",
+                                        compact=True,
+                                        placeholder="optional (victims' earth loops)")
 
-    def build(self) -> tuple[str, float] | None:
+    def build(self) -> tuple[str, float, float | None] | None:
         f = self.number("frequency", "frequency", "Hz", 0.0, strict=True)
-        return self.text_of("title"), float(f or 0.0)
+        earth = self.number("earth", "earth plane height", "mm", optional=True)
+        return self.text_of("title"), float(f or 0.0), earth
 
 
 class _PlaceForm(FormScreen):
