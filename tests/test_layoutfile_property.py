@@ -66,8 +66,11 @@ def circuits(draw: st.DrawFn, name: str) -> tuple[Circuit, list[str]]:
     if system != "dc":
         orders = draw(st.lists(st.integers(2, 50), max_size=4, unique=True))
         harmonics = tuple(sorted((h, draw(st.floats(0.0, 1.0))) for h in orders))
-    circuit = Circuit(name, system, draw(non_negative), draw(angle), harmonics,
-                      draw(st.none() | positive))
+    current = 0.0 if system == "loop" else draw(non_negative)  # loops: induced current only
+    bonding = (draw(st.sampled_from([None, "both-ends", "single-point"]))
+               if system in ("ac3", "ac1", "dc") else None)
+    circuit = Circuit(name, system, current, draw(angle), harmonics,
+                      draw(st.none() | positive), bonding)
     extra = [p for p in PHASES[system] if p not in REQUIRED_PHASES[system]]
     phases = list(REQUIRED_PHASES[system]) + draw(st.lists(st.sampled_from(extra or ["a"]),
                                                            max_size=3))
@@ -79,6 +82,8 @@ def valid_layouts(draw: st.DrawFn) -> Layout:
     cnames = draw(unique_names(draw(st.integers(1, 3))))
     circs = [draw(circuits(n)) for n in cnames]
     wanted = [(c.name, p) for c, phases in circs for p in phases]
+    systems = {c.name: c.system for c, _ in circs}
+    bonding = {c.name: c.screen_bonding for c, _ in circs}
     cols = draw(st.integers(1, 6))
     rows = -(-len(wanted) // cols)
     x0, y0 = draw(coord), draw(coord)
@@ -94,12 +99,24 @@ def valid_layouts(draw: st.DrawFn) -> Layout:
         free = (PITCH - d) / 2
         x = x0 + PITCH * (slot % cols + 0.5) + draw(st.floats(-free, free))
         y = y0 + PITCH * (slot // cols + 0.5) + draw(st.floats(-free, free))
+        loop = systems[circuit] == "loop"
+        screen = {}
+        if bonding[circuit] is not None:  # a screened circuit: every cable has a screen,
+            # its mean diameter between a small conductor's and the overall diameter
+            screen = {"screen_area_mm2": draw(positive),
+                      "screen_diameter_mm": draw(st.floats(0.5 * d, 0.95 * d)),
+                      "screen_material": draw(st.none() | st.sampled_from(sorted(MATERIALS)))}
+        area = draw(positive) if loop else draw(st.none() | positive)
+        if screen and area is not None:  # the conductor fits inside the screen
+            area = min(area, 0.7 * math.pi * (screen["screen_diameter_mm"] / 2) ** 2)
         conductors.append(Conductor(
             name, circuit, phase, x, y, d,
-            area_mm2=draw(st.none() | positive),
+            area_mm2=area,
             material=draw(st.none() | st.sampled_from(sorted(MATERIALS))),
-            current_a=draw(st.none() | non_negative), angle_deg=draw(st.none() | angle),
-            fixed=draw(st.booleans()), tray=draw(st.sampled_from([None, tray.name]))))
+            current_a=None if loop else draw(st.none() | non_negative),
+            angle_deg=draw(st.none() | angle),
+            fixed=draw(st.booleans()), tray=draw(st.sampled_from([None, tray.name])),
+            **screen))
     # points, lines and areas share one name space (a limit's places name them)
     place_names = draw(st.lists(names, max_size=6, unique=True))
     n_pt, n_ln = draw(st.integers(0, 2)), draw(st.integers(0, 2))

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
-SYSTEMS: tuple[str, ...] = ("ac3", "ac1", "dc", "signal")
+SYSTEMS: tuple[str, ...] = ("ac3", "ac1", "dc", "signal", "loop")
 
 #: Phase labels allowed for each circuit system.
 PHASES: dict[str, tuple[str, ...]] = {
@@ -18,7 +18,14 @@ PHASES: dict[str, tuple[str, ...]] = {
     "ac1": ("L", "N", "PE"),
     "dc": ("+", "-", "PE"),
     "signal": ("a", "b"),
+    "loop": ("a", "b"),
 }
+
+#: Systems that carry no current of their own: signal pairs (victims) and passive loops
+#: (shorted conductors that carry only induced current).
+PASSIVE_SYSTEMS: tuple[str, ...] = ("signal", "loop")
+#: How the metallic screens of a circuit's cables are bonded.
+SCREEN_BONDINGS: tuple[str, ...] = ("both-ends", "single-point")
 
 #: Phase labels that must each have at least one conductor for the circuit to carry current.
 REQUIRED_PHASES: dict[str, tuple[str, ...]] = {
@@ -26,6 +33,7 @@ REQUIRED_PHASES: dict[str, tuple[str, ...]] = {
     "ac1": ("L", "N"),
     "dc": ("+", "-"),
     "signal": ("a", "b"),
+    "loop": ("a", "b"),
 }
 
 #: Fundamental angle of each phase label, degrees (docs/conventions.md).
@@ -77,6 +85,7 @@ class Circuit:
     angle_deg: float = 0.0
     harmonics: tuple[tuple[int, float], ...] = ()
     length_m: float | None = None
+    screen_bonding: str | None = None  # "both-ends" or "single-point" (screened cables)
 
 
 @dataclass(frozen=True)
@@ -95,6 +104,13 @@ class Conductor:
     angle_deg: float | None = None
     fixed: bool = False
     tray: str | None = None
+    screen_area_mm2: float | None = None  # metallic screen cross-section
+    screen_diameter_mm: float | None = None  # mean diameter of the screen
+    screen_material: str | None = None  # copper (default) or aluminium
+
+    @property
+    def screened(self) -> bool:
+        return self.screen_area_mm2 is not None or self.screen_diameter_mm is not None
 
     @property
     def radius_mm(self) -> float:

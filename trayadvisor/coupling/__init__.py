@@ -2,9 +2,13 @@
 
 - :mod:`~trayadvisor.coupling.inductance` — per-metre and finite-length (Grover) mutual
   inductance, geometric mean radii, the loops of a layout and their inductance matrix.
-- :mod:`~trayadvisor.coupling.sharing` — the impedance system of all conductors and the
-  current sharing between parallel conductors of a phase; ``carried_sources``: the
-  currents every figure uses (``"solved"``, the default, or ``"equal"`` shares).
+- :mod:`~trayadvisor.coupling.system` — the impedance system of all conductors: parallel
+  groups, cable screens bonded at both ends, passive loops; one batched solve.
+- :mod:`~trayadvisor.coupling.sharing` — the current sharing between parallel conductors of
+  a phase; ``carried_sources``: the currents every figure uses (``"solved"``, the default,
+  or ``"equal"`` shares).
+- :mod:`~trayadvisor.coupling.induced` — screens and passive loops as figures: currents,
+  losses, the loss factor λ1, standing voltages of screens bonded at one point.
 - :mod:`~trayadvisor.coupling.resistance` — R′ from the IEC 60228 table, at temperature,
   and at each harmonic with the IEC 60287-1-1 skin effect.
 - :mod:`~trayadvisor.coupling.victims` — the EMF induced in victim signal loops, per metre,
@@ -20,8 +24,10 @@ The method is written up in ``docs/coupling.md``.
 from trayadvisor.coupling.constraints import (
     ConstraintFigure,
     imbalance_constraint,
+    induced_loss_figure,
     induced_voltage_constraint,
 )
+from trayadvisor.coupling.induced import PassiveFigure, ScreenFigure, induced_loss_w_per_m
 from trayadvisor.coupling.inductance import (
     gmr_m,
     grover_mutual_finite,
@@ -46,6 +52,7 @@ from trayadvisor.coupling.sharing import (
     check_current_model,
     check_temperature,
     sharing_plan,
+    solve_parts,
     solve_plan,
     solve_sharing,
     solved_sources,
@@ -61,6 +68,8 @@ __all__ = [
     "SharingPlan",
     "ConstraintFigure",
     "CouplingSummary",
+    "PassiveFigure",
+    "ScreenFigure",
     "SharingResult",
     "VictimFigure",
     "ac_resistance_per_m",
@@ -73,6 +82,8 @@ __all__ = [
     "grover_mutual_finite",
     "imbalance_constraint",
     "induced_emf",
+    "induced_loss_figure",
+    "induced_loss_w_per_m",
     "induced_voltage_constraint",
     "log_distance_matrix",
     "loop_inductance_matrix",
@@ -80,6 +91,7 @@ __all__ = [
     "resistance_per_m",
     "sharing_plan",
     "skin_effect_factor",
+    "solve_parts",
     "solve_plan",
     "solve_sharing",
     "solved_sources",

@@ -15,16 +15,19 @@ columns and JSON; ``constraint.limit`` is the bound. Without building new Layout
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.coupling.sharing import (
+from trayadvisor.coupling.induced import induced_loss_w_per_m
+from trayadvisor.coupling.system import (
     DEFAULT_TEMPERATURE_C,
     SharingPlan,
     check_current_model,
     group_imbalance_pct,
     sharing_plan,
+    solve_parts,
     solve_plan,
 )
 from trayadvisor.coupling.victims import EmfPlan, emf_phasors, emf_plan
@@ -131,10 +134,35 @@ class ImbalanceConstraint(_PlanCache):
     def items(self, layout: Layout, xy_m: np.ndarray) -> tuple[np.ndarray, tuple[str, ...]]:
         """Imbalance % of every parallel group, (..., G), and the groups ("F1 L1")."""
         plan: SharingPlan = self._plan(layout)  # type: ignore[assignment]
-        labels = tuple(f"{g.circuit} {g.phase}" for g in plan.groups)
+        par = [k for k, g in enumerate(plan.groups) if g.kind == "parallel"]
+        labels = tuple(f"{plan.groups[k].circuit} {plan.groups[k].phase}" for k in par)
         if not labels:
             return np.zeros((*np.shape(xy_m)[:-2], 0)), labels
-        return group_imbalance_pct(plan, solve_plan(plan, xy_m)), labels
+        return group_imbalance_pct(plan, solve_parts(plan, xy_m)[0])[..., par], labels
+
+
+class InducedLossFigure(_PlanCache):
+    """The loss in screens bonded at both ends and in passive loops, W/m (a figure each
+    ranked option carries; ``limit`` inf unless a maximum is wanted)."""
+
+    key = "induced_loss_w_per_m"
+
+    def __init__(self, max_w_per_m: float = math.inf,
+                 temperature_c: float = DEFAULT_TEMPERATURE_C) -> None:
+        super().__init__()
+        self.limit = float(max_w_per_m)
+        self.temperature_c = float(temperature_c)
+
+    def _build(self, layout: Layout) -> SharingPlan:
+        return sharing_plan(layout, self.temperature_c)
+
+    def items(self, layout: Layout, xy_m: np.ndarray) -> tuple[np.ndarray, tuple[str, ...]]:
+        """The total loss, (..., 1), labelled "screens and loops"."""
+        plan: SharingPlan = self._plan(layout)  # type: ignore[assignment]
+        if not plan.induced:
+            return np.zeros((*np.shape(xy_m)[:-2], 0)), ()
+        cores, screens = solve_parts(plan, xy_m)
+        return induced_loss_w_per_m(plan, cores, screens)[..., None], ("screens and loops",)
 
 
 @dataclass(frozen=True)
@@ -181,6 +209,12 @@ def imbalance_constraint(max_pct: float,
     (DC for dc circuits); see :func:`trayadvisor.coupling.sharing.solve_sharing`.
     """
     return ImbalanceConstraint(max_pct, temperature_c)
+
+
+def induced_loss_figure(temperature_c: float = DEFAULT_TEMPERATURE_C) -> InducedLossFigure:
+    """Figure (no limit): the loss in screens bonded at both ends and in passive loops of
+    each arrangement, W/m (:mod:`trayadvisor.coupling.induced`)."""
+    return InducedLossFigure(math.inf, temperature_c)
 
 
 def induced_voltage_constraint(max_mV_per_m: float, currents: str = "solved",  # noqa: N803

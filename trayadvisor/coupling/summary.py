@@ -64,6 +64,8 @@ class CouplingSummary:
                  "circulating_a": g.circulating_a}
                 for g in s.groups
             ],
+            "screens": [f.to_json() for f in s.screens],
+            "passive": [f.to_json() for f in s.passive],
             "reactance_only": s.reactance_only,
             "temperature_c": s.temperature_c,
             "sharing_used_for_victims": self.sharing_used,
@@ -105,5 +107,12 @@ def coupling_summary(layout: Layout, length_m: float | None = None, currents: st
     if not solved and shares.groups:
         notes.append("victim EMF with equal shares between parallel conductors (the sharing "
                      "table is the solved one)")
+    if not solved and (shares.screens or shares.passive):
+        notes.append("victim EMF without the currents induced in screens and passive loops "
+                     "(--equal-shares); the screen and loop tables are the solved ones")
+    if any(f.bonding == "single-point" and f.standing_v_per_m > 0 for f in shares.screens):
+        notes.append("standing voltages on screens bonded at one point: the permitted touch "
+                     "voltage and the sheath insulation are for the local rules and licensed "
+                     "practice to settle")
     return CouplingSummary(tuple(victims), shares, names, m, solved,
                            None if earth_y_mm is None else float(earth_y_mm), tuple(notes))

@@ -22,6 +22,7 @@ from trayadvisor.layoutfile.placechecks import (
     place_values,
 )
 from trayadvisor.layoutfile.schema import TABLES
+from trayadvisor.layoutfile.screenchecks import screen_references, screen_values
 from trayadvisor.model import MATERIALS, PHASES, REQUIRED_PHASES, SYSTEMS, Layout
 
 #: Largest accepted ``samples`` of an observation line (keeps the engines' arrays sane).
@@ -46,7 +47,8 @@ _NUMBERS: dict[str, dict[str, str]] = {
     "tray": {"x_mm": "mm", "y_mm": "mm", "width_mm": "mm >0", "depth_mm": "mm >0"},
     "circuit": {"current_a": "A >=0", "angle_deg": "degrees", "length_m": "m >0 ?"},
     "conductor": {"x_mm": "mm", "y_mm": "mm", "diameter_mm": "mm >0", "area_mm2": "mm² >0 ?",
-                  "current_a": "A >=0 ?", "angle_deg": "degrees ?"},
+                  "current_a": "A >=0 ?", "angle_deg": "degrees ?",
+                  "screen_area_mm2": "mm² >0 ?", "screen_diameter_mm": "mm >0 ?"},
     "point": {"x_mm": "mm", "y_mm": "mm"},
     "line": {"x0_mm": "mm", "y0_mm": "mm", "x1_mm": "mm", "y1_mm": "mm"},
     "area": {"x0_mm": "mm", "y0_mm": "mm", "x1_mm": "mm", "y1_mm": "mm"},
@@ -305,9 +307,9 @@ def layout_problems(layout: Layout, path: str = "<layout>",
         :mod:`trayadvisor.layoutfile.placechecks`.
     """
     ck = _Checks(layout, path, lines)
-    stages = ((_stage_values, place_values), (_stage_duplicates, place_names),
-              (_stage_references, place_references), (_stage_geometry, area_geometry),
-              (_stage_carrying,))
+    stages = ((_stage_values, place_values, screen_values), (_stage_duplicates, place_names),
+              (_stage_references, place_references, screen_references),
+              (_stage_geometry, area_geometry), (_stage_carrying,))
     for stage, runs in enumerate(stages):
         ck.stage = stage
         for run in runs:

@@ -20,7 +20,7 @@ from trayadvisor.layoutfile.checks import validate_layout
 from trayadvisor.layoutfile.errors import LayoutError, did_you_mean
 from trayadvisor.layoutfile.linemap import LineMap
 from trayadvisor.layoutfile.schema import EXAMPLES, FORMAT, TABLES, TOP, TOP_LEVEL_NAMES
-from trayadvisor.model import SYSTEMS, Layout
+from trayadvisor.model import PASSIVE_SYSTEMS, SYSTEMS, Layout
 
 _TOML_POS = re.compile(r"\s*\(at (?:line (\d+), column (\d+)|end of document)\)\s*$")
 
@@ -125,7 +125,8 @@ def _table(kind: str, i: int, raw: Any, lm: LineMap, errors: list[LayoutError],
                 hint = hint or f"; remove it (known keys: {', '.join(schema)})"
                 raise _Bad(f"{what}: unknown key '{key}'{hint}", key)
         required = {k for k, (_, req) in schema.items() if req}
-        if kind == "circuit" and raw.get("system") in SYSTEMS and raw["system"] != "signal":
+        if kind == "circuit" and raw.get("system") in SYSTEMS \
+                and raw["system"] not in PASSIVE_SYSTEMS:
             required.add("current_a")
         for key in schema:
             if key in required and key not in raw:

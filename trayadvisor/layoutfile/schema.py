@@ -48,12 +48,14 @@ TABLES: dict[str, Table] = {
     "circuit": Table(Circuit, "circuits", {
         "name": ("str", True), "system": ("str", True), "current_a": ("num", False),
         "angle_deg": ("num", False), "harmonics": ("harm", False),
-        "length_m": ("num", False)}),
+        "length_m": ("num", False), "screen_bonding": ("str", False)}),
     "conductor": Table(Conductor, "conductors", {
         "name": ("str", True), "circuit": ("str", True), "phase": ("str", True),
         "x_mm": ("num", True), "y_mm": ("num", True), "diameter_mm": ("num", True),
         "area_mm2": ("num", False), "material": ("str", False), "current_a": ("num", False),
-        "angle_deg": ("num", False), "fixed": ("bool", False), "tray": ("str", False)}),
+        "angle_deg": ("num", False), "fixed": ("bool", False), "tray": ("str", False),
+        "screen_area_mm2": ("num", False), "screen_diameter_mm": ("num", False),
+        "screen_material": ("str", False)}),
     "point": Table(ObservationPoint, "points", {
         "name": ("str", True), "x_mm": ("num", True), "y_mm": ("num", True)}),
     "line": Table(ObservationLine, "lines", {

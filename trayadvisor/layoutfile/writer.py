@@ -9,7 +9,7 @@ from dataclasses import MISSING, fields
 from typing import Any
 
 from trayadvisor.layoutfile.schema import FORMAT, TABLES
-from trayadvisor.model import Layout
+from trayadvisor.model import PASSIVE_SYSTEMS, Layout
 
 _ESCAPES = {'"': '\\"', "\\": "\\\\", "\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f",
             "\r": "\\r"}
@@ -67,7 +67,7 @@ def dumps_layout(layout: Layout) -> str:
                 name = table.field_of(key)
                 value = getattr(obj, name)
                 keep = required or (kind == "circuit" and key == "current_a"
-                                    and obj.system != "signal")
+                                    and obj.system not in PASSIVE_SYSTEMS)
                 if not keep and (value is None or (name in defaults
                                                    and value == defaults[name])):
                     continue

@@ -27,6 +27,7 @@ from trayadvisor.coupling import (
     carried_sources,
     check_temperature,
     imbalance_constraint,
+    induced_loss_figure,
     induced_voltage_constraint,
     solve_sharing,
 )
@@ -60,9 +61,11 @@ _SMALL = 512  # below this many arrangements no seeding is needed
 
 def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: float,
                           max_induced_mV_per_m: float, currents: str,  # noqa: N803
-                          temperature_c: float, figures: bool) -> tuple[Constraint, ...]:
+                          temperature_c: float, figures: bool,
+                          induced: bool = False) -> tuple[Constraint, ...]:
     """The given constraints, the limits on imbalance and victim EMF, and (with ``figures``)
-    figure-only checks (limit inf) for the keys nothing else covers; R′ at
+    figure-only checks (limit inf) for the keys nothing else covers, and the loss in
+    screens and passive loops when the layout has them (``induced``); R′ at
     ``temperature_c`` like the field scores."""
     out = list(constraints)
     imbalance = partial(imbalance_constraint, temperature_c=temperature_c)
@@ -78,6 +81,8 @@ def _coupling_constraints(constraints: Sequence[Constraint], max_imbalance_pct: 
             out.append(imbalance(math.inf))
         if "induced_mV_per_m" not in have:
             out.append(induced(math.inf))
+    if induced and "induced_loss_w_per_m" not in {getattr(c, "key", None) for c in out}:
+        out.append(induced_loss_figure(temperature_c))
     return tuple(out)
 
 
@@ -226,8 +231,10 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
                        temperature_c=temperature_c)
     src = layout_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
+    induced = any(c.screened for c in layout.conductors) or any(
+        c.system == "loop" for c in layout.circuits)
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
-                                        currents, temperature_c, coupling_figures)
+                                        currents, temperature_c, coupling_figures, induced)
     solved = currents == "solved"
     # Solved currents tell apart the parallel groups and sizes, like finite constraints.
     identity = solved or any(not math.isinf(float(getattr(c, "limit", 0.0)))
@@ -242,7 +249,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     if shares is not None:  # what the solved currents rest on (R', reactance-only groups)
         notes += ["every arrangement scored with its own solved current sharing",
                   *shares.notes()]
-    _symmetries(space, layout, obj, identity, conjugate, notes)
+    _symmetries(space, layout, obj, identity, conjugate, notes, relabel=not induced)
     distinct = space.distinct()
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
     carried = partial(carried_sources, currents=currents, temperature_c=temperature_c)
@@ -296,14 +303,18 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
 
 
 def _symmetries(space, layout: Layout, obj: Objective, identity: bool,  # noqa: ANN001
-                conjugate: bool, notes: list[str]) -> None:
-    """Find the transformations that leave the objective unchanged (merged in the options)."""
+                conjugate: bool, notes: list[str], relabel: bool = True) -> None:
+    """Find the transformations that leave the objective unchanged (merged in the options).
+
+    ``relabel`` False (screens or passive loops: currents induced by every circuit at once)
+    keeps only the mirror: relabelling one circuit's phases would change the induced
+    currents' phases relative to the others'."""
     if space.n_positions == 0:
         return
     axis = obj.mirror_axis_mm(layout)
     mirror = find_mirror(space, layout, axis, identity) if axis is not None else None
-    phases = phase_symmetries(space, layout, conjugate=conjugate)
-    twins = circuit_permutations(space, layout)
+    phases = phase_symmetries(space, layout, conjugate=conjugate) if relabel else []
+    twins = circuit_permutations(space, layout) if relabel else []
     kmaps = compose(twins, phases)
     if mirror is not None:
         space.mirror, space.mirror_axis_mm = mirror, axis

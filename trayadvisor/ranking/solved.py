@@ -153,8 +153,11 @@ def _aggregable(m: _Model, sub: Space, owner: np.ndarray) -> bool:
 
 
 def _impedance(m: _Model, space: Space) -> None:
-    """Y = Z⁻¹ over the rows when every free kind of a diameter has one impedance."""
+    """Y = Z⁻¹ over the rows when every free kind of a diameter has one impedance (and no
+    screen is in the system: a screen moves with its core, so its row is not a place)."""
     plan = m.plan
+    if plan.lam_fix is not None:
+        return
     pos_free = {int(i): p for p, i in enumerate(plan.free)}
     r_of = {}  # row → (H,) resistance and gmr of its free occupants
     diam = space.diameters_mm
