@@ -80,7 +80,7 @@ def test_trefoil_both_ends_matches_iec_60287():
         assert f.loss_w_per_m == pytest.approx(rs * want_is ** 2, rel=1e-6)
     # the screens carry no net current (no earth return)
     row = list(res.orders).index(1)
-    assert abs(sum(res.currents[row]) ) < 1e-9 * 400
+    assert abs(sum(res.currents[row])) < 1e-9 * 400
 
 
 def test_trefoil_single_point_standing_voltage_is_i_x():
@@ -145,14 +145,15 @@ def test_flat_two_sets_with_screens_equal_an_independent_solve():
     phases = ["L1", "L2", "L3"] * 2
     text = HEAD + ('[[circuit]]\nname = "F"\nsystem = "ac3"\ncurrent_a = 800\n'
                    'screen_bonding = "both-ends"\n')
-    text += "".join(cable(f"c{k}", "F", p, x, 25.0) for k, (p, x) in enumerate(zip(phases, xs)))
+    text += "".join(cable(f"c{k}", "F", p, x, 25.0)
+                    for k, (p, x) in enumerate(zip(phases, xs, strict=True)))
     res = solve_sharing(parse_layout(text))
     r_core = float(ac_resistance_per_m(resistance_per_m(240.0, "copper", 90.0), 50.0))
     gmr_core = math.sqrt(240e-6 / math.pi) * math.exp(-0.25)
     angle = {"L1": 0.0, "L2": -120.0, "L3": 120.0}
     totals = {p: 800.0 * np.exp(1j * math.radians(angle[p])) for p in angle}
     lines = [{"xy": (x * 1e-3, 0.025), "gmr": gmr_core, "r": r_core, "group": p}
-             for p, x in zip(phases, xs)]
+             for p, x in zip(phases, xs, strict=True)]
     lines += [{"xy": (x * 1e-3, 0.025), "gmr": 0.015, "r": screen_r(25.0), "group": "S",
                "pair": k, "pair_d": 0.015} for k, x in enumerate(xs)]
     lines[0]["totals"] = {**totals, "S": 0.0}
@@ -209,7 +210,6 @@ def test_passive_loop_current_is_minus_j_omega_m_i_over_its_impedance():
     assert with_loop.max_resultant_uT < open_loop.max_resultant_uT
     # and equals the field of the hand-solved currents (long-wire formula) at a point
     pt = (0.130, 0.600)
-    b = 0j
     bx = by = 0j
     for (x, y), i in ((p1, 500.0), (p2, -500.0), (p3, want), (p4, -want)):
         dx, dy = pt[0] - x, pt[1] - y
@@ -290,13 +290,13 @@ system = "loop"
     xs = [60.0, 100.0, 140.0, 180.0]
     names = [("g", "S", "L"), ("r", "S", "N"), ("pa", "P", "a"), ("pb", "P", "b")]
     text += "".join(cable(n, c, p, x, 20.0, d=30.0, area=95.0, screen=None)
-                    for (n, c, p), x in zip(names, xs))
+                    for (n, c, p), x in zip(names, xs, strict=True))
     lay = parse_layout(text)
     res = rank_layout(lay, top_k=3, objective="contour")
     assert res.method == "exhaustive" and res.certified
     values = set()
     for perm in itertools.permutations(xs):
-        moved = lay.with_positions({n: (x, 20.0) for (n, _, _), x in zip(names, perm)})
+        moved = lay.with_positions({n: (x, 20.0) for (n, _, _), x in zip(names, perm, strict=True)})
         values.add(round(field_summary(moved).max_resultant_uT, 9))
     want = sorted(values)
     got = [o.max_resultant_uT for o in res.options]

@@ -181,3 +181,20 @@ def test_field_readouts_say_which_currents_the_figures_use() -> None:
     assert "Currents equal shares" in texts(demo, currents="equal")
     bare = demo.with_conductors([replace(c, area_mm2=None) for c in demo.conductors])
     assert "Currents solved, no area" in texts(bare)
+
+
+def test_screens_and_passive_loops_appear_with_their_figures_and_the_caution() -> None:
+    from tests.test_coupling_induced import LOOP, trefoil
+    from trayadvisor.layoutfile.reader import parse_layout
+
+    lay = parse_layout(trefoil("single-point"))
+    data = coupling_summary(lay).to_json()
+    text = "\n".join(line.text for line in coupling_lines(coupling_summary(lay)))
+    assert "Cable screens (λ1 = screen loss / core loss)" in text
+    # Reference: `couple --json`'s standing voltage, three significant figures
+    assert f"{data['screens'][0]['standing_v_per_m']:.3g}" in text
+    assert "touch voltage" in text and "licensed practice" in text
+    loop = coupling_summary(parse_layout(LOOP))
+    text = "\n".join(line.text for line in coupling_lines(loop))
+    p = loop.to_json()["passive"][0]
+    assert "Passive loops" in text and f"{p['loss_w_per_m']:.3g}" in text

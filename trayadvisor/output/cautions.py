@@ -3,8 +3,9 @@
 #: The full cautions, one paragraph each.
 CAUTIONS: tuple[str, ...] = (
     "The figures come from an idealised model: long straight conductors in free space, no "
-    "steel or aluminium trays, covers or building steel, no induced currents in screens or "
-    "structures. Measure installed fields (IEC 61786 describes how).",
+    "steel or aluminium trays, covers or building steel, no induced currents in structures "
+    "or the earth; cable screens and passive loops only as the layout describes them. "
+    "Measure installed fields (IEC 61786 describes how).",
     "The tool does not check ampacity, grouping derating, voltage drop, fault withstand, tray "
     "loading or segregation distances: defer to the local wiring rules and to licensed "
     "practice.",
@@ -14,8 +15,8 @@ CAUTIONS: tuple[str, ...] = (
 
 #: The same in one line, for terminal output.
 CAUTION_LINE = (
-    "Caution: idealised model (long straight conductors in free space, no steel, screens or "
-    "induced currents); measure installed fields; no ampacity, derating, voltage-drop, fault "
-    "or segregation checks; people with active implants may be affected far below exposure "
-    "reference levels; defer to local wiring rules and licensed practice."
+    "Caution: idealised model (long straight conductors in free space, no steel, no currents "
+    "in structures or earth); measure installed fields; no ampacity, derating, voltage-drop, "
+    "fault or segregation checks; people with active implants may be affected far below "
+    "exposure reference levels; defer to local wiring rules and licensed practice."
 )

@@ -122,6 +122,33 @@ def sharing_lines(data: dict) -> list[Line]:
     return out
 
 
+def induced_lines(data: dict) -> list[Line]:
+    """Cable screens (current, loss, λ1, standing voltage) and passive loops (current,
+    loss), with the caution on standing voltages."""
+    out: list[Line] = []
+    screens = data.get("screens", [])
+    if screens:
+        out += [Line("Cable screens (λ1 = screen loss / core loss)", "head"),
+                Line(f" {'cable':<9}{'bond':>5}{'A':>7}{'W/m':>7}{'λ1':>7}{'V/m':>7}", "head")]
+        for f in screens:
+            bond = "both" if f["bonding"] == "both-ends" else "one"
+            out.append(Line(f" {f['conductor'][:8]:<9}{bond:>5}{f1(f['current_a']):>7}"
+                            f"{g3(f['loss_w_per_m']):>7}{g3(f['loss_factor']):>7}"
+                            f"{g3(f['standing_v_per_m']):>7}"))
+        if any(f["standing_v_per_m"] for f in screens):
+            out.append(Line("⚠ Standing voltage on screens bonded at one point (V/m × run "
+                            "length at the open end): the permitted touch voltage and the "
+                            "sheath insulation are for the local rules and licensed practice",
+                            "warning"))
+    passive = data.get("passive", [])
+    if passive:
+        out += [Line("Passive loops: induced current and loss", "head"),
+                Line(f" {'loop':<9}{'A':>7}{'°':>7}{'W/m':>8}", "head")]
+        out += [Line(f" {p['circuit'][:8]:<9}{f1(p['current_a']):>7}{f1(p['angle_deg']):>7}"
+                     f"{g3(p['loss_w_per_m']):>8}") for p in passive]
+    return out
+
+
 def reactance_note(data: dict) -> list[Line]:
     """A warning when any group was solved without resistance (no conductor area)."""
     groups = data["groups"]
@@ -183,6 +210,9 @@ def coupling_lines(summary: CouplingSummary) -> list[Line]:
     out += victim_lines(data)
     out.append(Line(""))
     out += sharing_lines(data)
+    induced = induced_lines(data)
+    if induced:
+        out += [Line(""), *induced]
     out += [Line(f"note: {n}", "note") for n in data["notes"]
             if not n.startswith("reactance-only") and (data["groups"] or "R'" not in n)]
     return out
