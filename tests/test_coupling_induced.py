@@ -308,3 +308,18 @@ system = "loop"
                                                    rel=1e-9)
         (loop,) = solve_sharing(moved).passive
         assert o.figures["induced_loss_w_per_m"] == pytest.approx(loop.loss_w_per_m, rel=1e-9)
+
+
+def test_field_reports_screens_and_loops_and_equal_shares_say_they_are_left_out(
+        capsys, tmp_path):
+    path = tmp_path / "loop.toml"
+    path.write_text(LOOP, encoding="utf-8")
+    assert main(["field", str(path), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    (loop,) = solve_sharing(parse_layout(LOOP)).passive
+    assert data["passive"][0]["current_a"] == loop.current_a and data["screens"] == []
+    assert main(["field", str(path)]) == 0
+    assert f"passive loop P: {loop.current_a:.3g} A" in capsys.readouterr().out
+    assert main(["field", str(path), "--equal-shares", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["passive"] == [] and any("no current is induced" in n for n in data["notes"])

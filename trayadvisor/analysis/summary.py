@@ -28,6 +28,8 @@ from trayadvisor.analysis.judging import (
 )
 from trayadvisor.coupling import (
     DEFAULT_TEMPERATURE_C,
+    PassiveFigure,
+    ScreenFigure,
     carried_sources,
     check_current_model,
     check_temperature,
@@ -99,6 +101,8 @@ class FieldSummary:
     temperature_c: float | None = None  # conductor temperature of R' (solved sharing only)
     dc_max_uT: float = 0.0  # the static field's maximum on the curve at d
     places: tuple[PlaceFigure, ...] = ()  # every point, line and area with its limits
+    screens: tuple[ScreenFigure, ...] = ()  # induced currents in the figures (solved only)
+    passive: tuple[PassiveFigure, ...] = ()
 
     def to_json(self) -> dict:
         """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
@@ -151,6 +155,8 @@ class FieldSummary:
                  "angle_deg": c.angle_deg}
                 for c in self.conductor_currents
             ],
+            "screens": [f.to_json() for f in self.screens],
+            "passive": [f.to_json() for f in self.passive],
             "notes": list(self.notes),
         }
 
@@ -205,8 +211,13 @@ def field_summary(
             raise ValueError(f"temperature_c = {temperature_c!r}: {exc}") from None
         shares = solve_sharing(layout, temperature_c)
         src, notes = shares.sources, tuple(shares.notes())
+        induced = (shares.screens, shares.passive)
     else:
         src, notes = carried_sources(layout, "equal"), ()
+        induced = ((), ())
+        if any(c.screened for c in layout.conductors) or any(
+                c.system == "loop" for c in layout.circuits):
+            notes = ("equal shares: no current is induced in screens or passive loops",)
     ac, dc = split_bands(src)
     env = envelope_m(layout)
     d_m = distance_mm * MM
@@ -254,6 +265,8 @@ def field_summary(
         profile_xy_mm=sf.xy_m / MM,
         dc_max_uT=float(dc_max),
         places=places,
+        screens=induced[0],
+        passive=induced[1],
         currents=currents,
         conductor_currents=tuple(
             ConductorCurrent(name, int(h), float(abs(v)), _angle_deg(v))

@@ -17,7 +17,7 @@ from trayadvisor.cli.common import (
 from trayadvisor.coupling import CouplingSummary, coupling_summary
 from trayadvisor.engine.units import NH
 from trayadvisor.model import Layout
-from trayadvisor.output import CAUTION_LINE, fmt_fixed
+from trayadvisor.output import CAUTION_LINE, fmt_fixed, plain
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -100,7 +100,21 @@ def render(path: str, layout: Layout, s: CouplingSummary) -> str:
             for g in sh.groups))
     else:
         rows.append("  no parallel conductors: nothing to share")
-    rows.extend(f"  note: {n}" for n in s.notes if sh.groups or "R'" not in n)
+    if sh.screens:
+        rows.append("  cable screens (λ1 = screen loss / core loss)")
+        rows.append(f"  {'cable':<16}{'bonding':>13}{'current A':>11}{'angle °':>9}"
+                    f"{'loss W/m':>10}{'λ1':>8}{'V/m':>9}")
+        for f in sh.screens:
+            rows.append(f"  {plain(f.conductor)[:15]:<16}{f.bonding:>13}"
+                        f"{fmt_fixed(f.current_a):>11}{fmt_fixed(f.angle_deg):>9}{_g(f.loss_w_per_m):>10}"
+                        f"{_g(f.loss_factor):>8}{_g(f.standing_v_per_m):>9}")
+    if sh.passive:
+        rows.append(f"  passive loops {'current A':>15}{'angle °':>9}{'loss W/m':>10}")
+        for p in sh.passive:
+            rows.append(f"  {plain(p.circuit)[:14]:<15}{fmt_fixed(p.current_a):>14}"
+                        f"{fmt_fixed(p.angle_deg):>9}{_g(p.loss_w_per_m):>10}")
+    rows.extend(f"  note: {n}" for n in s.notes if sh.groups or "R'" not in n
+                or sh.screens or sh.passive)
     rows.append(CAUTION_LINE)
     return "\n".join(rows)
 

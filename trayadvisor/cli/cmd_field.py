@@ -70,6 +70,29 @@ def _db(margin_db: float) -> str:
     return "inf" if margin_db == float("inf") else f"{margin_db:+.1f}"
 
 
+def _induced_rows(s: FieldSummary) -> list[str]:
+    """Screens and passive loops in a few lines (the full table: ``couple``)."""
+    rows = []
+    both = [f for f in s.screens if f.bonding == "both-ends"]
+    one = [f for f in s.screens if f.bonding == "single-point"]
+    if both:
+        worst = max(both, key=lambda f: f.current_a)
+        factors = [f.loss_factor for f in both if f.loss_factor is not None]
+        lam = f", λ1 up to {max(factors):.3g}" if factors else ""
+        rows.append(f"  screens bonded at both ends: {len(both)}, up to "
+                    f"{worst.current_a:.3g} A ({plain(worst.conductor)}){lam}, "
+                    f"{sum(f.loss_w_per_m for f in both):.3g} W/m in all")
+    if one:
+        worst = max(one, key=lambda f: f.standing_v_per_m)
+        rows.append(f"  screens bonded at one point: {len(one)}, standing voltage up to "
+                    f"{worst.standing_v_per_m:.3g} V/m ({plain(worst.conductor)}); the "
+                    "permitted touch voltage is for local rules and licensed practice")
+    for p in s.passive:
+        rows.append(f"  passive loop {plain(p.circuit)}: {p.current_a:.3g} A at "
+                    f"{p.angle_deg:.0f}°, {p.loss_w_per_m:.3g} W/m")
+    return rows
+
+
 def render(path: str, layout: Layout, s: FieldSummary) -> str:
     order = decay_text(s.far_field_order)
     rows = [
@@ -112,6 +135,7 @@ def render(path: str, layout: Layout, s: FieldSummary) -> str:
             rows.append(f"  {plain(lim.name)[:25]:<26}{kind:>10}{fmt_uT(lim.limit_uT):>8}"
                         f"{lim.index:>8.3g}{_db(lim.margin_db):>7}  "
                         f"{fmt_mm(lim.clearance_mm):>10}  {_verdict(lim.index)}")
+    rows += _induced_rows(s)
     rows.append("  currents: " + ("solved sharing between parallel conductors"
                                   if s.currents == "solved" else "equal shares (--equal-shares)"))
     rows += [f"  note: {plain(n)}" for n in s.notes]

@@ -55,6 +55,9 @@ from trayadvisor.ranking.tables import Pool, Tables
 
 DEFAULT_MAX_EXHAUSTIVE = 20_000_000  #: largest space enumerated exactly by default
 DEFAULT_HEURISTIC_BUDGET_S = 8.0  #: time cap of the heuristic when no budget is given
+#: Default exhaustive limit when every arrangement needs a full sharing solve (screens bonded
+#: at both ends, or parallel conductors of different sizes): ~26 µs each (R12, bench).
+DEFAULT_MAX_EXHAUSTIVE_FULL = 300_000
 _SEED_DESCENTS = 16  # local-search descents that seed the exhaustive pool's threshold
 _SMALL = 512  # below this many arrangements no seeding is needed
 
@@ -254,6 +257,16 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     base_pos = {c.name: (float(c.x_mm), float(c.y_mm)) for c in layout.conductors}
     carried = partial(carried_sources, currents=currents, temperature_c=temperature_c)
     baseline = obj.score_uT(carried(layout), layout, base_pos)
+    tables = (SolvedTables(space, src, obj.search_m, layout, temperature_c, obj.search_w)
+              if solved else Tables(space, src, obj.search_m, weights=obj.search_w)
+              ) if space.n_positions else None
+    if (max_exhaustive == DEFAULT_MAX_EXHAUSTIVE and isinstance(tables, SolvedTables)
+            and not tables.model.schur and distinct > DEFAULT_MAX_EXHAUSTIVE_FULL):
+        # every arrangement needs a full solve (screens, or sizes that differ): about 50×
+        # the cost of the small solves, so enumerate less by default (bench_induced.py)
+        max_exhaustive = DEFAULT_MAX_EXHAUSTIVE_FULL
+        notes.append(f"every arrangement solved in full (screens or mixed sizes): "
+                     f"exhaustive search up to {DEFAULT_MAX_EXHAUSTIVE_FULL:,} arrangements")
     method = "exhaustive" if distinct <= max_exhaustive else "heuristic"
     deadline = None
     if budget_s is not None:
@@ -263,9 +276,6 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     reporter = _Reporter(progress, t0, obj.unit)
     capacity = max(64, 8 * top_k)
     evaluated, screened, stop, options, certified = 0, 0, "", [], False
-    tables = (SolvedTables(space, src, obj.search_m, layout, temperature_c, obj.search_w)
-              if solved else Tables(space, src, obj.search_m, weights=obj.search_w)
-              ) if space.n_positions else None
     for _ in range(3):
         pool = Pool(capacity, space.n_positions, space.canonical)
         evaluated, screened, stop = _search(layout, space, tables, pool, method, distinct,
