@@ -12,8 +12,8 @@ from trayadvisor.output import fmt_uT
 from trayadvisor.tui import make_app
 from trayadvisor.tui.logic.settings import TYPED_LIMIT
 from trayadvisor.tui.screens.field import FieldScreen
-from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm
 from trayadvisor.tui.screens.help import CAUTIONS, HelpScreen
+from trayadvisor.tui.screens.itemforms import CircuitForm, ConductorForm
 from trayadvisor.tui.screens.section import SectionScreen
 from trayadvisor.tui.widgets.canvas import SectionCanvas
 
@@ -240,3 +240,49 @@ async def test_conductors_moved_onto_each_other_name_them_instead_of_figures() -
         await settle(app, pilot)
         want = field_summary(app.document.layout, distance_mm=app.settings.distance_mm)
         assert app.summary.max_resultant_uT == want.max_resultant_uT
+
+
+async def test_screens_are_edited_through_the_circuit_and_conductor_forms() -> None:
+    # The bonding first (a circuit may say how screens would be bonded before it has any),
+    # then a screen on a conductor; a screen larger than the cable is flagged as a problem
+    # of the layout (as an overlap is: the file cannot be saved until it is fixed).
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(app, pilot)
+        await pilot.press("tab", "up")                      # the circuit row of F1
+        await pilot.press("enter")
+        form = app.screen
+        assert isinstance(form, CircuitForm)
+        form.query_one("#bonding").value = "both-ends"
+        form.query_one("#current").focus()
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert app.document.layout.circuit("F1").screen_bonding == "both-ends"
+        name = app.document.selected                        # the selected conductor
+        await pilot.press("e")
+        form = app.screen
+        assert isinstance(form, ConductorForm)
+        form.query_one("#screen-area").value = "25"
+        form.query_one("#screen-dia").value = "40"          # wider than the 28 mm cable
+        form.query_one("#screen-area").focus()
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert any("not inside the cable" in m for m in app.problems)
+        assert "problem" in text_of(app, "#status")
+        await pilot.press("e")                              # the same conductor again
+        form = app.screen
+        assert isinstance(form, ConductorForm)
+        form.query_one("#screen-dia").value = "24"
+        form.query_one("#screen-area").focus()
+        await pilot.press("enter")
+        await settle(app, pilot)
+        c = app.document.layout.conductors[app.document.layout.conductor_index(name)]
+        assert (c.screen_area_mm2, c.screen_diameter_mm) == (25.0, 24.0)
+        assert app.problems == []
+        # Reference: the coupling figures of the edited layout, as `couple` computes them
+        from trayadvisor.coupling import solve_sharing
+        res = solve_sharing(app.document.layout)
+        (screen,) = res.screens
+        # one screen alone has nothing to return through (no earth return is modelled)
+        assert screen.conductor == c.name and screen.current_a == 0.0
+        assert any("one screened cable only in F1" in n for n in res.notes())

@@ -14,7 +14,7 @@ from trayadvisor.layoutfile.reader import LayoutError, read_layout
 from trayadvisor.model import Circuit, Conductor, Tray
 from trayadvisor.tui.logic import edits
 from trayadvisor.tui.logic.document import Document
-from trayadvisor.tui.screens.forms import parse_harmonics
+from trayadvisor.tui.screens.itemforms import parse_harmonics
 
 
 def _demo(demo_copy: Path) -> Document:

@@ -107,6 +107,13 @@ class SharingResult:
             out.append("screens bonded at both ends carry circulating currents, solved with "
                        f"the cores (R' of the screens at {self.temperature_c:g} °C; no earth "
                        "return): every figure uses each cable's core plus screen current")
+        alone = sorted({s.circuit for s in self.screens if s.bonding == "both-ends"
+                        and sum(t.circuit == s.circuit and t.bonding == "both-ends"
+                                for t in self.screens) == 1})
+        if alone:
+            out.append("one screened cable only in " + ", ".join(alone) + ": with no other "
+                       "screen to return through (and no earth return modelled) it carries "
+                       "no current")
         if any(s.bonding == "single-point" for s in self.screens):
             out.append("screens bonded at one point carry no current; their standing "
                        "voltage is reported per metre")

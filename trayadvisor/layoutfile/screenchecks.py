@@ -74,10 +74,6 @@ def screen_references(ck: Any) -> None:
             ck.add(("circuit", i), f"{what}: conductor '{screened[0].name}' has a screen; "
                    'say how the screens are bonded: screen_bonding = "both-ends" or '
                    '"single-point"')
-        elif circ.screen_bonding is not None and not screened:
-            ck.add(("circuit", i, "screen_bonding"), f"{what}: no conductor of this circuit "
-                   "has a screen; remove screen_bonding or give its conductors "
-                   "screen_area_mm2 and screen_diameter_mm")
         if circ.system != "loop":
             continue
         if len(mine) < 2:

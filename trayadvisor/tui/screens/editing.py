@@ -12,7 +12,7 @@ from trayadvisor.model import Circuit, Conductor, Tray
 from trayadvisor.tui.logic import edits
 from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
-from trayadvisor.tui.screens.forms import CircuitForm, ConductorForm, TrayForm
+from trayadvisor.tui.screens.itemforms import CircuitForm, ConductorForm, TrayForm
 from trayadvisor.tui.screens.placemenu import PlaceEditing
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 
