@@ -21,23 +21,14 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
 
 import argparse
 import math
-import statistics
 import sys
-import time
 from dataclasses import replace
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "bench"))
 
-
-def median_time(fn, repeat: int):  # noqa: ANN001, ANN201
-    times, last = [], None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        last = fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times), last
+from benchutil import median_time  # noqa: E402
 
 
 def screened(lay, bonding: str = "both-ends"):  # noqa: ANN001, ANN201

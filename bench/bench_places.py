@@ -24,9 +24,7 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_var, "1")
 
 import argparse
-import statistics
 import sys
-import time
 from dataclasses import replace
 from pathlib import Path
 
@@ -34,16 +32,12 @@ import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "bench"))
+
+from benchutil import median_time  # noqa: E402
+
 DEMO = ROOT / "layouts" / "demo.toml"
 
 
-def median_time(fn, repeat: int):  # noqa: ANN001, ANN201
-    times, last = [], None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        last = fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times), last
 
 
 def grid_max_uT(src, area, n: int) -> float:  # noqa: ANN001

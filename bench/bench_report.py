@@ -27,12 +27,14 @@ import subprocess
 import sys
 import tempfile
 import time
-from collections.abc import Callable
 from functools import partial
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "layouts" / "demo.toml"
+sys.path.insert(0, str(ROOT / "bench"))
+
+from benchutil import median_time  # noqa: E402
 
 
 def layout_text(seed: int) -> str:
@@ -65,13 +67,6 @@ def cli_options(command: str, *argv: str) -> dict:
     return importlib.import_module(f"trayadvisor.cli.cmd_{command}").options(args)
 
 
-def median_time(fn: Callable[[], object], repeat: int) -> tuple[float, object]:
-    times, last = [], None
-    for _ in range(repeat):
-        t = time.perf_counter()
-        last = fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times), last
 
 
 def bench_report(repeat: int, folder: Path) -> None:
