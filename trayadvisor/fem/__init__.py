@@ -1,0 +1,17 @@
+"""The field with steel and aluminium in the cross-section, by 2D finite elements.
+
+- :mod:`~trayadvisor.fem.mesh` — a constrained-Delaunay mesh (the ``triangle`` package) of a
+  disc around the plates, graded from layers across each plate's thickness to coarse rings
+  far away.
+- :mod:`~trayadvisor.fem.solver` — the time-harmonic vector potential of the plates'
+  *reaction* to line currents, by P2 elements (scikit-fem) and one sparse LU factorisation
+  per frequency, reused for every source.
+
+The materials are linear (no saturation). The method and its checks are written up in
+``docs/method.md`` ("Plates").
+"""
+
+from trayadvisor.fem.mesh import PlateMesh, build_mesh
+from trayadvisor.fem.solver import Plate, PlateSolver
+
+__all__ = ["Plate", "PlateMesh", "PlateSolver", "build_mesh"]
