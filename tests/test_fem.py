@@ -130,3 +130,18 @@ def test_eddy_currents_of_an_insulated_plate_sum_to_zero():
     scale = sigma * abs(g)
     assert abs(total) <= 1e-6 * scale
     assert abs(solver._c[0, 0]) > 0  # the plate floats at a potential of its own
+
+
+def test_touching_plates_share_their_corner_and_solve():
+    """A tray's bottom and side meet at a corner: the mesh merges the shared vertex (a
+    duplicate left in no triangle made the system singular); the reaction of a steel
+    corner then equals the reaction found with the corner's plates ordered the other way."""
+    bottom = Plate(-0.002, -0.002, 0.302, 0.0, 200.0, 5e6)
+    side = Plate(-0.002, 0.0, 0.0, 0.1, 200.0, 5e6)
+    src = np.array([[0.05, 0.03]])
+    pts = np.array([[0.15, -0.4], [-0.4, 0.05]])
+    one = PlateSolver([bottom, side], 50.0, (-0.05, -0.05, 0.35, 0.15), near_h_m=0.01)
+    two = PlateSolver([side, bottom], 50.0, (-0.05, -0.05, 0.35, 0.15), near_h_m=0.01)
+    b1, b2 = one.field(src, pts)[0], two.field(src, pts)[0]
+    assert np.all(np.isfinite(b1))
+    assert np.linalg.norm(b1 - b2) <= 1e-3 * np.linalg.norm(b1)
