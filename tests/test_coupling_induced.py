@@ -323,3 +323,12 @@ def test_field_reports_screens_and_loops_and_equal_shares_say_they_are_left_out(
     assert main(["field", str(path), "--equal-shares", "--json"]) == 0
     data = json.loads(capsys.readouterr().out)
     assert data["passive"] == [] and any("no current is induced" in n for n in data["notes"])
+
+
+def test_equal_shares_ranking_says_induced_currents_are_left_out():
+    from trayadvisor.ranking import rank_layout
+
+    res = rank_layout(parse_layout(LOOP), top_k=1, currents="equal", objective="contour")
+    assert any("no current is induced in screens or passive loops" in n for n in res.notes)
+    solved = rank_layout(parse_layout(LOOP), top_k=1, objective="contour")
+    assert not any("no current is induced" in n for n in solved.notes)

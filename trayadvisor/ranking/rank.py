@@ -249,6 +249,9 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     finite = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
     shares = solve_sharing(layout, temperature_c) if solved else None
     conjugate = not finite and (shares is None or all(g.reactance_only for g in shares.groups))
+    if shares is None and induced:
+        notes.append("equal shares: no current is induced in screens or passive loops (the "
+                     "options' loss figure is the solved one)")
     if shares is not None:  # what the solved currents rest on (R', reactance-only groups)
         notes += ["every arrangement scored with its own solved current sharing",
                   *shares.notes()]
