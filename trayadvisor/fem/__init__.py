@@ -6,6 +6,9 @@
 - :mod:`~trayadvisor.fem.solver` — the time-harmonic vector potential of the plates'
   *reaction* to line currents, by P2 elements (scikit-fem) and one sparse LU factorisation
   per frequency, reused for every source.
+- :mod:`~trayadvisor.fem.tables` — ``PlateField``: one solver per frequency component; the
+  unit field of every conductor at given points (free space plus reaction) and the
+  reaction potentials between conductors (the impedance additions of the sharing solve).
 
 The materials are linear (no saturation). The method and its checks are written up in
 ``docs/method.md`` ("Plates").
@@ -13,5 +16,6 @@ The materials are linear (no saturation). The method and its checks are written 
 
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
 from trayadvisor.fem.solver import Plate, PlateSolver
+from trayadvisor.fem.tables import PlateField
 
-__all__ = ["Plate", "PlateMesh", "PlateSolver", "build_mesh"]
+__all__ = ["Plate", "PlateField", "PlateMesh", "PlateSolver", "build_mesh"]

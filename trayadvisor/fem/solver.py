@@ -190,30 +190,37 @@ class PlateSolver:
 
         return np.asarray(asm(row, pb, sig=sig))
 
-    def reaction(self, xy_src_m: np.ndarray) -> np.ndarray:
-        """A_r (complex, one column per source of 1 A) at every dof, (N, k)."""
+    def reaction(self, xy_src_m: np.ndarray, weights: np.ndarray | None = None) -> np.ndarray:
+        """A_r at every dof, (N, c): one column per source of 1 A, or (with ``weights``, a
+        real (k, c) array) one column per weighted combination of the sources, assembled
+        as one load (superposition check)."""
         from skfem import LinearForm, asm
         from skfem.helpers import grad
 
         xy = np.asarray(xy_src_m, dtype=float).reshape(-1, 2)
+        wts = np.eye(xy.shape[0]) if weights is None else np.asarray(weights, float).reshape(
+            xy.shape[0], -1)
+        cols = range(xy.shape[0]) if weights is None else range(wts.shape[1])
         nf = len(self._floating)
         ni = self._interior.size
-        rhs = np.zeros((ni + nf, xy.shape[0]), dtype=complex)
+        rhs = np.zeros((ni + nf, wts.shape[1]), dtype=complex)
         nu0 = 1.0 / MU0
         for k, (pl, pb) in enumerate(zip(self.plates, self.plate_basis, strict=True)):
             dnu = nu0 / pl.mu_r - nu0
             eddy = self.omega > 0.0 and pl.sigma > 0.0
-            for s in range(xy.shape[0]):
-                src = xy[s:s + 1]
+            for c in cols:
+                use = np.flatnonzero(wts[:, c])
+                src, wt = xy[use], wts[use, c]
 
                 @LinearForm
-                def magnetic(v, w, src=src, dnu=dnu):
+                def magnetic(v, w, src=src, wt=wt, dnu=dnu):
                     gx, gy = free_gradient(src, w.x)
-                    return -dnu * (gx[0] * grad(v)[0] + gy[0] * grad(v)[1])
+                    gx, gy = np.tensordot(wt, gx, axes=1), np.tensordot(wt, gy, axes=1)
+                    return -dnu * (gx * grad(v)[0] + gy * grad(v)[1])
 
                 @LinearForm
-                def induced(v, w, src=src, sig=pl.sigma):
-                    return sig * free_potential(src, w.x)[0] * v
+                def induced(v, w, src=src, wt=wt, sig=pl.sigma):
+                    return sig * np.tensordot(wt, free_potential(src, w.x), axes=1) * v
 
                 # real forms assembled apart: the complex load is f_ν − jω f_σ
                 f = np.asarray(asm(magnetic, pb), dtype=complex) if dnu != 0.0 else 0.0
@@ -221,11 +228,11 @@ class PlateSolver:
                     f_sig = np.asarray(asm(induced, pb))
                     f = f - 1j * self.omega * f_sig
                     if k in self._floating:
-                        rhs[ni + self._floating.index(k), s] += 1j * self.omega * f_sig.sum()
+                        rhs[ni + self._floating.index(k), c] += 1j * self.omega * f_sig.sum()
                 if not np.isscalar(f):
-                    rhs[:ni, s] += f[self._interior]
+                    rhs[:ni, c] += f[self._interior]
         sol = self._lu.solve(rhs)
-        out = np.zeros((self._n, xy.shape[0]), dtype=complex)
+        out = np.zeros((self._n, wts.shape[1]), dtype=complex)
         out[self._interior] = sol[:ni]
         self._c = sol[ni:]
         return out
