@@ -173,3 +173,18 @@ def test_unit_tables_superpose_and_dc_sees_only_the_permeability():
     m = field.mutual_reaction(xy)
     for h in range(3):
         assert np.abs(m[h] - m[h].T).max() <= 1e-4 * np.abs(m[h]).max()
+
+
+def test_skin_depths_of_the_typical_materials():
+    from trayadvisor.fem import PLATE_MATERIALS, skin_depth_m
+
+    # Source: δ = sqrt(2/(ωμσ)) (any electromagnetics text); textbook values at 50 Hz
+    # (from memory): copper about 9.3 mm, aluminium about 12 mm, mild steel a few mm.
+    cu = skin_depth_m(*PLATE_MATERIALS["copper"], 50.0)
+    al = skin_depth_m(*PLATE_MATERIALS["aluminium"], 50.0)
+    st = skin_depth_m(*PLATE_MATERIALS["steel"], 50.0)
+    assert cu == pytest.approx(9.35e-3, rel=0.01)
+    assert 11e-3 < al < 13e-3 and 1e-3 < st < 4e-3
+    assert skin_depth_m(200.0, 5e6, 0.0) == math.inf
+    # δ ∝ f^(-1/2): four times the frequency halves it
+    assert skin_depth_m(1.0, 5.8e7, 200.0) == pytest.approx(cu / 2, rel=1e-12)

@@ -1,5 +1,7 @@
 """The field with steel and aluminium in the cross-section, by 2D finite elements.
 
+- :mod:`~trayadvisor.fem.materials` — typical μr and σ of steel, stainless steel,
+  aluminium and copper (recalled from memory), and the skin depth.
 - :mod:`~trayadvisor.fem.mesh` — a constrained-Delaunay mesh (the ``triangle`` package) of a
   disc around the plates, graded from layers across each plate's thickness to coarse rings
   far away.
@@ -14,8 +16,10 @@ The materials are linear (no saturation). The method and its checks are written 
 ``docs/method.md`` ("Plates").
 """
 
+from trayadvisor.fem.materials import PLATE_MATERIALS, skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
 from trayadvisor.fem.solver import Plate, PlateSolver
 from trayadvisor.fem.tables import PlateField
 
-__all__ = ["Plate", "PlateField", "PlateMesh", "PlateSolver", "build_mesh"]
+__all__ = ["PLATE_MATERIALS", "Plate", "PlateField", "PlateMesh", "PlateSolver", "build_mesh",
+           "skin_depth_m"]

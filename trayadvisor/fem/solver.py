@@ -38,6 +38,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trayadvisor.engine.units import MU0
+from trayadvisor.fem.materials import skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
 
 _K = MU0 / (2.0 * math.pi)
@@ -62,10 +63,7 @@ class Plate:
 
     def skin_depth_m(self, frequency_hz: float) -> float:
         """sqrt(2/(ωμσ)), inf for no conductivity or DC."""
-        w = 2.0 * math.pi * frequency_hz
-        if w <= 0.0 or self.sigma <= 0.0:
-            return math.inf
-        return math.sqrt(2.0 / (w * MU0 * self.mu_r * self.sigma))
+        return skin_depth_m(self.mu_r, self.sigma, frequency_hz)
 
 
 def free_potential(xy_src: np.ndarray, pts: np.ndarray) -> np.ndarray:
