@@ -38,6 +38,17 @@ def screened(lay, bonding: str = "both-ends"):  # noqa: ANN001, ANN201
     return replace(lay, conductors=cons, circuits=circs)
 
 
+def r12_pair():  # noqa: ANN201
+    """R12 (4 parallel sets of 240 mm² copper) without screens, and with screens bonded at
+    both ends."""
+    from bench_rank import feeder
+
+    base = feeder(4, 30.0)
+    bare = replace(base, conductors=tuple(replace(c, area_mm2=240.0, material="copper")
+                                          for c in base.conductors))
+    return bare, screened(base)
+
+
 def bench_accuracy() -> None:
     from trayadvisor.coupling import solve_sharing
     from trayadvisor.coupling.resistance import ac_resistance_per_m, resistance_per_m
@@ -65,14 +76,9 @@ def bench_accuracy() -> None:
 
 
 def bench_solve(repeat: int) -> None:
-    from bench_rank import feeder
-
     from trayadvisor.coupling import solve_sharing
 
-    base = feeder(4, 30.0)
-    bare = replace(base, conductors=tuple(replace(c, area_mm2=240.0, material="copper")
-                                          for c in base.conductors))
-    lay = screened(base)
+    bare, lay = r12_pair()
     solve_sharing(lay)
     t_s, _ = median_time(lambda: solve_sharing(lay), repeat)
     t_b, _ = median_time(lambda: solve_sharing(bare), repeat)
@@ -81,14 +87,9 @@ def bench_solve(repeat: int) -> None:
 
 
 def bench_rank(repeat: int) -> None:
-    from bench_rank import feeder
-
     from trayadvisor.ranking import rank_layout
 
-    base = feeder(4, 30.0)
-    bare = replace(base, conductors=tuple(replace(c, area_mm2=240.0, material="copper")
-                                          for c in base.conductors))
-    lay = screened(base)
+    bare, lay = r12_pair()
     t_s, r_s = median_time(lambda: rank_layout(lay, top_k=5), repeat)
     t_b, r_b = median_time(lambda: rank_layout(bare, top_k=5), repeat)
     print(f"rank R12 with screens: {t_s:.2f} s ({r_s.method}, certified {r_s.certified}, "

@@ -232,6 +232,11 @@ class Layout:
                     return p
         raise KeyError(name)
 
+    def has_induced_paths(self) -> bool:
+        """True when some current is only induced: cable screens or passive loops."""
+        return any(c.screened for c in self.conductors) or any(
+            c.system == "loop" for c in self.circuits)
+
     # -- geometry -------------------------------------------------------------------------
     def envelope_mm(self) -> tuple[float, float, float, float]:
         """Bounding rectangle (xmin, ymin, xmax, ymax) of all trays, or of the conductors'

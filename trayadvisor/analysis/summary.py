@@ -215,8 +215,7 @@ def field_summary(
     else:
         src, notes = carried_sources(layout, "equal"), ()
         induced = ((), ())
-        if any(c.screened for c in layout.conductors) or any(
-                c.system == "loop" for c in layout.circuits):
+        if layout.has_induced_paths():
             notes = ("equal shares: no current is induced in screens or passive loops",)
     ac, dc = split_bands(src)
     env = envelope_m(layout)

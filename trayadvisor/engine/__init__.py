@@ -34,7 +34,7 @@ from trayadvisor.engine.field import (
     resultant_rms,
     unit_field,
 )
-from trayadvisor.engine.measures import Measure, band_measure, carries, split_bands
+from trayadvisor.engine.measures import Measure, split_bands
 from trayadvisor.engine.places import (
     LineFigure,
     Place,
@@ -65,8 +65,6 @@ __all__ = [
     "default_samples",
     "ellipse_major_rms",
     "envelope_m",
-    "band_measure",
-    "carries",
     "far_field",
     "field_at_points_uT",
     "field_grid_uT",

@@ -51,13 +51,6 @@ class Measure:
         return Measure(np.asarray(self.weights, dtype=float) * factor, self.rule)
 
 
-def band_measure(orders: np.ndarray, band: str, scale: float = 1.0) -> Measure:
-    """The resultant of the AC components (orders ≥ 1) or of the DC one (order 0), × scale."""
-    orders = np.asarray(orders).reshape(-1)
-    mask = orders > 0 if band == "ac" else orders == 0
-    return Measure(mask * float(scale), "rss")
-
-
 def split_bands(src: SourceArrays) -> tuple[SourceArrays, SourceArrays]:
     """(AC part, DC part) of the sources: rows of order ≥ 1, and the row of order 0.
 
@@ -76,8 +69,3 @@ def split_bands(src: SourceArrays) -> tuple[SourceArrays, SourceArrays]:
         parts.append(SourceArrays(src.xy_m, src.radius_m, sub_orders,
                                   sub_orders.astype(float) * base_f, cur, src.names))
     return parts[0], parts[1]
-
-
-def carries(src: SourceArrays) -> bool:
-    """True when any conductor carries a non-zero current in these rows."""
-    return bool(np.any(np.abs(src.currents) > 0))

@@ -234,8 +234,7 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
                        temperature_c=temperature_c)
     src = layout_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
-    induced = any(c.screened for c in layout.conductors) or any(
-        c.system == "loop" for c in layout.circuits)
+    induced = layout.has_induced_paths()
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
                                         currents, temperature_c, coupling_figures, induced)
     solved = currents == "solved"
