@@ -26,6 +26,9 @@ PHASES: dict[str, tuple[str, ...]] = {
 PASSIVE_SYSTEMS: tuple[str, ...] = ("signal", "loop")
 #: How the metallic screens of a circuit's cables are bonded.
 SCREEN_BONDINGS: tuple[str, ...] = ("both-ends", "single-point")
+#: Sheet thickness of a solid sheet tray when the file gives none, mm (typical, common
+#: practice for tray bottoms 1.5–2.5 mm).
+DEFAULT_SHEET_MM = 2.0
 
 #: Phase labels that must each have at least one conductor for the circuit to carry current.
 REQUIRED_PHASES: dict[str, tuple[str, ...]] = {
@@ -57,18 +60,89 @@ MATERIALS: dict[str, tuple[float, float]] = {
 
 @dataclass(frozen=True)
 class Tray:
-    """Inner cross-section of one tray: lower-left corner, width and depth (mm)."""
+    """Inner cross-section of one tray: lower-left corner, width and depth (mm).
+
+    ``sheet`` names a plate material when the tray is a solid sheet tray (its bottom and
+    sides are plates ``sheet_mm`` thick outside the inner section); ``cover`` adds a cover
+    plate on top. Ladder and mesh trays have no ``sheet`` (their steel is not modelled).
+    """
 
     name: str
     x_mm: float
     y_mm: float
     width_mm: float
     depth_mm: float
+    sheet: str | None = None
+    sheet_mm: float = DEFAULT_SHEET_MM
+    cover: bool = False
 
     @property
     def bounds(self) -> tuple[float, float, float, float]:
         """(xmin, ymin, xmax, ymax) in mm."""
         return (self.x_mm, self.y_mm, self.x_mm + self.width_mm, self.y_mm + self.depth_mm)
+
+    @property
+    def outer_bounds(self) -> tuple[float, float, float, float]:
+        """The bounds with a sheet tray's bottom, sides and cover, mm."""
+        x0, y0, x1, y1 = self.bounds
+        if not self.sheet:
+            return (x0, y0, x1, y1)
+        t = self.sheet_mm
+        return (x0 - t, y0 - t, x1 + t, y1 + (t if self.cover else 0.0))
+
+    def sheet_plates(self) -> tuple[Plate, ...]:
+        """The bottom, the two sides and (with ``cover``) the cover of a sheet tray.
+
+        The bottom and sides are one conducting body (named after the tray); the cover lies
+        on the sides and is a body of its own (docs/file-format.md, "Plates").
+        """
+        if not self.sheet:
+            return ()
+        t = self.sheet_mm
+        x0, y0, x1, y1 = self.bounds
+        parts = [Plate(f"{self.name} bottom", x0 - t, y0 - t, x1 - x0 + 2 * t, t,
+                       material=self.sheet, body=self.name, tray=self.name),
+                 Plate(f"{self.name} left side", x0 - t, y0, t, y1 - y0,
+                       material=self.sheet, body=self.name, tray=self.name),
+                 Plate(f"{self.name} right side", x1, y0, t, y1 - y0,
+                       material=self.sheet, body=self.name, tray=self.name)]
+        if self.cover:
+            parts.append(Plate(f"{self.name} cover", x0 - t, y1, x1 - x0 + 2 * t, t,
+                               material=self.sheet, body=f"{self.name} cover",
+                               tray=self.name))
+        return tuple(parts)
+
+
+@dataclass(frozen=True)
+class Plate:
+    """An axis-aligned rectangle of steel, aluminium or copper in the cross-section (mm).
+
+    ``material`` names a typical material (``steel``, ``stainless``, ``aluminium``,
+    ``copper``); ``mu_r`` and ``sigma_s_per_m`` give the data explicitly (they override the
+    material's). Plates with the same ``body`` are one conductor (welded or bolted); every
+    other plate is insulated from the rest, its eddy currents summing to zero. ``tray`` is
+    set on the plates generated from a sheet tray.
+    """
+
+    name: str
+    x_mm: float
+    y_mm: float
+    width_mm: float
+    height_mm: float
+    material: str | None = None
+    mu_r: float | None = None
+    sigma_s_per_m: float | None = None
+    body: str | None = None
+    tray: str | None = None
+
+    @property
+    def bounds(self) -> tuple[float, float, float, float]:
+        """(xmin, ymin, xmax, ymax) in mm."""
+        return (self.x_mm, self.y_mm, self.x_mm + self.width_mm, self.y_mm + self.height_mm)
+
+    @property
+    def body_name(self) -> str:
+        return self.body or self.name
 
 
 @dataclass(frozen=True)
@@ -189,6 +263,7 @@ class Layout:
     limits: tuple[Limit, ...] = ()
     areas: tuple[ObservationArea, ...] = ()
     earth_y_mm: float | None = None  # height of an earth reference plane (coupling), mm
+    plates: tuple[Plate, ...] = ()
 
     # -- look-ups -------------------------------------------------------------------------
     def circuit(self, name: str) -> Circuit:
@@ -232,6 +307,10 @@ class Layout:
                     return p
         raise KeyError(name)
 
+    def all_plates(self) -> tuple[Plate, ...]:
+        """The ``[[plate]]`` entries and the plates of every sheet tray."""
+        return self.plates + tuple(p for t in self.trays for p in t.sheet_plates())
+
     def has_induced_paths(self) -> bool:
         """True when some current is only induced: cable screens or passive loops."""
         return any(c.screened for c in self.conductors) or any(
@@ -239,10 +318,11 @@ class Layout:
 
     # -- geometry -------------------------------------------------------------------------
     def envelope_mm(self) -> tuple[float, float, float, float]:
-        """Bounding rectangle (xmin, ymin, xmax, ymax) of all trays, or of the conductors'
-        outer circles when the layout has no tray (the tray envelope, docs/conventions.md)."""
+        """Bounding rectangle (xmin, ymin, xmax, ymax) of all trays (with a sheet tray's
+        metal), or of the conductors' outer circles when the layout has no tray (the tray
+        envelope, docs/conventions.md)."""
         if self.trays:
-            b = [t.bounds for t in self.trays]
+            b = [t.outer_bounds for t in self.trays]
         elif self.conductors:
             b = [
                 (c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,

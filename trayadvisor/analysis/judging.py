@@ -18,10 +18,10 @@ import numpy as np
 from trayadvisor.engine import (
     Measure,
     SourceArrays,
-    clearance,
     envelope_m,
     place_maxima,
-    stray_field,
+    source_clearance,
+    source_stray_field,
 )
 from trayadvisor.engine.units import MM, UT
 from trayadvisor.limits import Rule
@@ -122,12 +122,11 @@ def curve_verdict(layout: Layout, rule: Rule, src: SourceArrays, distance_mm: fl
     env = envelope_m(layout)
     measure, outside = rule_measure(rule, src, float(layout.frequency_hz))
     if rule.multi_frequency:
-        index = stray_field(src.xy_m, src.radius_m, src.currents, env, distance_mm * MM,
-                            measure=measure).max_T
-        clr = clearance(src.xy_m, src.radius_m, src.currents, env, 1.0, measure=measure)
+        index = source_stray_field(src, env, distance_mm * MM, measure=measure).max_T
+        clr = source_clearance(src, env, 1.0, measure=measure)
     else:
         index = stray_uT / rule.limit_uT
-        clr = clearance(src.xy_m, src.radius_m, src.currents, env, rule.limit_uT / UT)
+        clr = source_clearance(src, env, rule.limit_uT / UT)
     return CurveVerdict(float(index), float(clr / MM), outside)
 
 

@@ -43,8 +43,8 @@ from trayadvisor.engine import (
     far_field,
     line_figure,
     point_figures,
+    source_stray_field,
     split_bands,
-    stray_field,
 )
 from trayadvisor.engine.units import MM, UT
 from trayadvisor.limits import resolve_limit
@@ -220,8 +220,8 @@ def field_summary(
     ac, dc = split_bands(src)
     env = envelope_m(layout)
     d_m = distance_mm * MM
-    sf = stray_field(ac.xy_m, ac.radius_m, ac.currents, env, d_m)
-    dc_max = stray_field(dc.xy_m, dc.radius_m, dc.currents, env, d_m).max_T * UT
+    sf = source_stray_field(ac, env, d_m)
+    dc_max = source_stray_field(dc, env, d_m).max_T * UT
     ff = far_field(ac.xy_m, ac.currents)
     at_xy = [(f"at{i + 1}", float(x), float(y)) for i, (x, y) in enumerate(at)]
     named_xy = [(p.name, p.x_mm, p.y_mm) for p in layout.points]

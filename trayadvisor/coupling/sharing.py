@@ -28,17 +28,19 @@ from trayadvisor.coupling.system import (
     check_current_model,
     group_imbalance_pct,
     net_currents,
+    plate_sources,
     sharing_plan,
     solve_parts,
     solve_plan,
 )
-from trayadvisor.engine import SourceArrays, layout_sources
+from trayadvisor.engine import SourceArrays
 from trayadvisor.model import Layout
 
 __all__ = ["CURRENT_MODELS", "DEFAULT_MATERIAL", "DEFAULT_TEMPERATURE_C", "TEMPERATURE_RANGE_C",
            "ZERO_IMBALANCE_PCT", "ZERO_TOTAL", "ConductorShare", "GroupFigure", "GroupMeta",
            "SharingError", "SharingPlan", "SharingResult", "carried_sources",
-           "check_current_model", "check_temperature", "group_imbalance_pct", "sharing_plan",
+           "check_current_model", "check_temperature", "group_imbalance_pct", "plate_sources",
+           "sharing_plan",
            "solve_parts", "solve_plan", "solve_sharing", "solved_sources"]
 
 
@@ -219,5 +221,5 @@ def carried_sources(layout: Layout, currents: str = "solved",
     solution.
     """
     if check_current_model(currents) == "equal":
-        return layout_sources(layout)
+        return plate_sources(layout)
     return solved_sources(layout, temperature_c)

@@ -41,11 +41,16 @@ Induced currents are more groups of the same system, with a total of zero:
 
 The field sees each cable's net current, core plus screen (coaxial: outside the cable they
 act as one line current); the sharing figures see the cores.
+
+**Plates** (steel and aluminium, :mod:`trayadvisor.fem`): their eddy currents and
+magnetisation add the reaction potential P_ij(f) at conductor i of 1 A in conductor j, so
+Z_ij += jω P_ij — more inductance near steel, and the plates' eddy-current loss as
+resistance (Re jωP > 0). A screen sits at its core's centre, where P is the core's.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -53,6 +58,7 @@ from trayadvisor.coupling.inductance import gmr_m, log_distance_matrix
 from trayadvisor.coupling.resistance import ac_resistance_per_m, resistance_per_m
 from trayadvisor.engine import SourceArrays, layout_sources
 from trayadvisor.engine.units import K_LINE, MM
+from trayadvisor.fem import layout_reaction
 from trayadvisor.model import MATERIALS, Layout
 
 #: Conductor temperature for R' unless the caller states one: 90 °C, the maximum continuous
@@ -158,11 +164,19 @@ def _screens(layout: Layout, temperature_c: float) -> Screens:
                    np.asarray(r_dc, float).reshape(-1))
 
 
+def plate_sources(layout: Layout) -> SourceArrays:
+    """:func:`~trayadvisor.engine.layout_sources` with the layout's plates attached (the
+    field of every figure then includes their reaction)."""
+    src = layout_sources(layout)
+    reaction = layout_reaction(layout)
+    return src if reaction is None else replace(src, reaction=reaction)
+
+
 def sharing_plan(layout: Layout, temperature_c: float = DEFAULT_TEMPERATURE_C) -> SharingPlan:
     """Precompute the position-independent part of :func:`solve_sharing`."""
     cons = layout.conductors
     n = len(cons)
-    src = layout_sources(layout)
+    src = plate_sources(layout)
     systems = {c.name: c.system for c in layout.circuits}
     members: dict[tuple[str, str], list[int]] = {}
     loops: dict[str, list[int]] = {}
@@ -334,18 +348,26 @@ def _solve_free(plan: SharingPlan, xy: np.ndarray) -> np.ndarray:
     if plan.lam_fix is not None:
         lam[..., core, idx] = ln_r
         lam[..., idx, core] = ln_r
-    x_ff = -K_LINE * lam[..., plan.free[:, None], plan.free[None, :]]
-    x_fk = -K_LINE * lam[..., plan.free[:, None], plan.fixed[None, :]]
+    # inductance per metre (..., H, n + s, n + s): free space, plus the plates' reaction
+    ind = np.broadcast_to(-K_LINE * lam[..., None, :, :], (*batch, h, *lam.shape[-2:]))
+    reaction = plan.sources.reaction
+    if reaction is not None:
+        flat = xy.reshape(-1, *xy.shape[-2:])
+        extra = np.stack([reaction.potentials(one, plan.sources.frequency_hz)
+                          for one in flat]).reshape(*batch, h, *lam.shape[-2:])
+        ind = ind + extra
+    x_ff = ind[..., plan.free[:, None], plan.free[None, :]]
+    x_fk = ind[..., plan.free[:, None], plan.fixed[None, :]]
     n_sys = nf + g_count
     a = np.zeros((*batch, h, n_sys, n_sys), dtype=complex)
-    a[..., :nf, :nf] = 1j * plan.omega[:, None, None] * x_ff[..., None, :, :]
+    a[..., :nf, :nf] = 1j * plan.omega[:, None, None] * x_ff
     diag = np.arange(nf)
     a[..., diag, diag] += plan.r_free
     a[..., diag, nf + plan.group_of_free] = -1.0
     a[..., nf + plan.group_of_free, diag] = 1.0
     rhs = np.zeros((*batch, h, n_sys), dtype=complex)
     i_k = plan.base[:, plan.fixed]  # (H, nk)
-    rhs[..., :nf] = -1j * plan.omega[:, None] * (i_k @ np.swapaxes(x_fk, -1, -2))
+    rhs[..., :nf] = -1j * plan.omega[:, None] * np.einsum("...hfk,hk->...hf", x_fk, i_k)
     rhs[..., nf:] = plan.totals
     try:
         return np.linalg.solve(a, rhs[..., None])[..., :nf, 0]

@@ -3,7 +3,8 @@
 - :mod:`~trayadvisor.engine.units` — every unit constant (mm, µT, mV, µH; μ0).
 - :mod:`~trayadvisor.engine.currents` — layout → ``SourceArrays``: positions, radii and the
   current phasor of every conductor at every frequency component (the phase, harmonic,
-  neutral and DC conventions live only here).
+  neutral and DC conventions live only here), and the ``Reaction`` of plates nearby that
+  a higher layer may attach (:mod:`trayadvisor.fem`).
 - :mod:`~trayadvisor.engine.field` — the phasor kernel, resultant and ellipse-maximum RMS
   field (IEC 61786-1), far-field decay order from the multipole moments.
 - :mod:`~trayadvisor.engine.contour` — the curve at distance d around the tray envelope, its
@@ -25,7 +26,13 @@ from trayadvisor.engine.contour import (
     offset_points,
     stray_field,
 )
-from trayadvisor.engine.currents import SourceArrays, conductor_currents, layout_sources
+from trayadvisor.engine.currents import (
+    Reaction,
+    SourceArrays,
+    conductor_currents,
+    layout_sources,
+    total_field,
+)
 from trayadvisor.engine.field import (
     FarField,
     ellipse_major_rms,
@@ -47,6 +54,8 @@ from trayadvisor.engine.places import (
     path_points_mm,
     place_maxima,
     point_figures,
+    source_clearance,
+    source_stray_field,
     stray_uT,
 )
 
@@ -57,6 +66,7 @@ __all__ = [
     "Measure",
     "Place",
     "PointFigure",
+    "Reaction",
     "SourceArrays",
     "StrayField",
     "clearance",
@@ -76,9 +86,12 @@ __all__ = [
     "path_points_mm",
     "place_maxima",
     "point_figures",
+    "source_clearance",
+    "source_stray_field",
     "split_bands",
     "resultant_rms",
     "stray_field",
     "stray_uT",
+    "total_field",
     "unit_field",
 ]

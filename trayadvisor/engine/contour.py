@@ -15,7 +15,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.field import phasor_field, resultant_rms
+from trayadvisor.engine.currents import Reaction, total_field
+from trayadvisor.engine.field import resultant_rms
 from trayadvisor.engine.measures import Measure
 
 Envelope = tuple[float, float, float, float]  # (xmin, ymin, xmax, ymax), m
@@ -216,7 +217,8 @@ def refine_maximum(f: Callable[[np.ndarray], np.ndarray], s: np.ndarray, values:
 
 def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env: Envelope,
                 d: float, samples: int | None = None, refine: bool = True,
-                measure: Measure | None = None) -> StrayField:
+                measure: Measure | None = None, reaction: Reaction | None = None,
+                frequency_hz: np.ndarray | None = None) -> StrayField:
     """Maximum resultant RMS flux density on the curve at distance ``d`` outside ``env``.
 
     Parameters
@@ -240,6 +242,9 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
         What is maximised (default: the resultant of every row of ``currents``, T); e.g. an
         exposure index (:mod:`trayadvisor.engine.measures`). ``max_T`` and ``resultant_T``
         are then in the measure's unit.
+    reaction, frequency_hz : Reaction and (H,) float, optional
+        Plates near the conductors and the frequency of each current row: their field is
+        added, and points of the curve inside a plate are left out (value 0).
 
     Returns
     -------
@@ -262,10 +267,14 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
 
     fold = resultant_rms if measure is None else measure
 
-    def f(u: np.ndarray) -> np.ndarray:
-        return fold(phasor_field(src_xy, radius, currents, offset_points(env, d, u)))
+    def value(pts: np.ndarray) -> np.ndarray:
+        v = fold(total_field(src_xy, radius, currents, pts, reaction, frequency_hz))
+        return v if reaction is None else np.where(reaction.inside(pts), 0.0, v)
 
-    values = fold(phasor_field(src_xy, radius, currents, xy))
+    def f(u: np.ndarray) -> np.ndarray:
+        return value(offset_points(env, d, u))
+
+    values = value(xy)
     if refine and length > 0:
         s_max, v_max = refine_maximum(f, s, values, length, candidates=8)
     else:
@@ -277,7 +286,8 @@ def stray_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, en
 
 def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env: Envelope,
               limit_T: float, d_max: float = 100.0, rtol: float = 1e-4,
-              measure: Measure | None = None) -> float:
+              measure: Measure | None = None, reaction: Reaction | None = None,
+              frequency_hz: np.ndarray | None = None) -> float:
     """Smallest distance beyond which the stray field stays below ``limit_T``.
 
     Parameters
@@ -293,6 +303,11 @@ def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env:
     measure : Measure, optional
         What is compared with ``limit_T`` (default: the resultant, T); e.g. an exposure
         index with ``limit_T = 1``.
+    reaction, frequency_hz : optional
+        Plates, as for :func:`stray_field`. A plate outside the envelope is a source of its
+        own (eddy currents, magnetisation): the field need not fall monotonically across
+        it, and the distance returned is a crossing of the limit, the nearest one only
+        when the field falls monotonically.
 
     Returns
     -------
@@ -327,7 +342,8 @@ def clearance(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray, env:
     def peak(d: float) -> float:
         d = max(float(d), 0.0)
         if d not in cache:
-            cache[d] = stray_field(src_xy, radius, currents, env, d, measure=measure).max_T
+            cache[d] = stray_field(src_xy, radius, currents, env, d, measure=measure,
+                                   reaction=reaction, frequency_hz=frequency_hz).max_T
         return cache[d]
 
     if peak(0.0) <= limit_T:

@@ -18,12 +18,50 @@ place:
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Protocol
 
 import numpy as np
 
+from trayadvisor.engine.field import phasor_field
 from trayadvisor.engine.units import MM
 from trayadvisor.model import PHASE_ANGLE_DEG, Layout
+
+
+class Reaction(Protocol):
+    """What material near the conductors adds to their free-space field (the plates of
+    :mod:`trayadvisor.fem`). Arrays in SI units; ``frequency_hz`` (H,) per current row."""
+
+    def field(self, xy_m: np.ndarray, currents: np.ndarray, frequency_hz: np.ndarray,
+              pts_m: np.ndarray) -> np.ndarray:
+        """(H, m, 2) complex field added at the points by the currents (H, n)."""
+        ...
+
+    def inside(self, pts_m: np.ndarray) -> np.ndarray:
+        """(m,) bool: the points that lie inside the material (no field figure there)."""
+        ...
+
+    def unit_fields(self, xy_m: np.ndarray, frequency_hz: np.ndarray, pts_m: np.ndarray
+                    ) -> np.ndarray:
+        """(H, n, m, 2) complex field added per ampere of each conductor."""
+        ...
+
+    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray) -> np.ndarray:
+        """(H, n, n) complex vector potential added at conductor i per ampere in j, V·s/m."""
+        ...
+
+
+def total_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray,
+                pts_m: np.ndarray, reaction: Reaction | None = None,
+                frequency_hz: np.ndarray | None = None) -> np.ndarray:
+    """(H, m, 2) phasor field: free space (:func:`~trayadvisor.engine.phasor_field`) plus
+    the reaction of material nearby, when there is one."""
+    b = phasor_field(src_xy, radius, currents, pts_m)
+    if reaction is not None:
+        if frequency_hz is None:
+            raise ValueError("a reaction needs the frequency of every current row")
+        b = b + reaction.field(src_xy, currents, frequency_hz, pts_m)
+    return b
 
 
 @dataclass(frozen=True)
@@ -52,10 +90,17 @@ class SourceArrays:
     frequency_hz: np.ndarray
     currents: np.ndarray
     names: tuple[str, ...]
+    #: Plates near the conductors (:class:`Reaction`), or None in free space.
+    reaction: Reaction | None = field(default=None, compare=False, repr=False)
 
     @property
     def n(self) -> int:
         return self.xy_m.shape[0]
+
+    def field_at(self, pts_m: np.ndarray) -> np.ndarray:
+        """(H, m, 2) phasor field of these currents at points (m, 2) m, plates included."""
+        return total_field(self.xy_m, self.radius_m, self.currents, pts_m, self.reaction,
+                           self.frequency_hz)
 
 
 def _polar(mag: float, angle_deg: float) -> complex:

@@ -67,5 +67,6 @@ def split_bands(src: SourceArrays) -> tuple[SourceArrays, SourceArrays]:
         base_f = (src.frequency_hz[orders > 0][0] / orders[orders > 0][0]
                   if (orders > 0).any() else 0.0)
         parts.append(SourceArrays(src.xy_m, src.radius_m, sub_orders,
-                                  sub_orders.astype(float) * base_f, cur, src.names))
+                                  sub_orders.astype(float) * base_f, cur, src.names,
+                                  src.reaction))
     return parts[0], parts[1]

@@ -17,9 +17,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trayadvisor.engine.contour import refine_maximum, stray_field
+from trayadvisor.engine.contour import StrayField, clearance, refine_maximum, stray_field
 from trayadvisor.engine.currents import SourceArrays, layout_sources
-from trayadvisor.engine.field import ellipse_major_rms, phasor_field, resultant_rms
+from trayadvisor.engine.field import ellipse_major_rms, resultant_rms
 from trayadvisor.engine.measures import Measure, split_bands
 from trayadvisor.engine.units import MM, UT
 from trayadvisor.model import Layout, ObservationArea, ObservationLine, ObservationPoint
@@ -59,7 +59,7 @@ def envelope_m(layout: Layout) -> tuple[float, float, float, float]:
 
 def field_at_points_uT(src: SourceArrays, xy_mm: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(resultant, ellipse maximum) in µT at points given in mm, shape (k, 2)."""
-    b = phasor_field(src.xy_m, src.radius_m, src.currents, np.asarray(xy_mm, float) * MM)
+    b = src.field_at(np.asarray(xy_mm, float) * MM)
     return resultant_rms(b) * UT, ellipse_major_rms(b) * UT
 
 
@@ -166,17 +166,17 @@ def place_maxima(src: SourceArrays, place: Place, measures: list[Measure | None]
     folds = [resultant_rms if m is None else m for m in measures]
     corners, total = _path(place)
     if isinstance(place, ObservationPoint) or total <= 0.0:
-        b = phasor_field(src.xy_m, src.radius_m, src.currents, corners[:1] * MM)
+        b = src.field_at(corners[:1] * MM)
         at = (float(corners[0, 0]), float(corners[0, 1]))
         return [(float(f(b)[0]), at) for f in folds]
     k = _samples(src, place, total)
     s = np.arange(k) * (total / k)
-    b = phasor_field(src.xy_m, src.radius_m, src.currents, path_points_mm(place, s) * MM)
+    b = src.field_at(path_points_mm(place, s) * MM)
     out = []
     for fold in folds:
         def f(u: np.ndarray, fold=fold) -> np.ndarray:
             pts = path_points_mm(place, u) * MM
-            return fold(phasor_field(src.xy_m, src.radius_m, src.currents, pts))
+            return fold(src.field_at(pts))
 
         s_max, v_max = refine_maximum(f, s, fold(b), total, candidates=8, xtol=1e-6)
         p = path_points_mm(place, np.array([s_max]))[0]
@@ -188,5 +188,18 @@ def stray_uT(layout: Layout, distance_mm: float, src: SourceArrays | None = None
     """The stray field at distance d (µT): maximum AC resultant (fundamental and harmonics, no
     DC) on the curve around the envelope."""
     src, _ = split_bands(src or layout_sources(layout))
-    sf = stray_field(src.xy_m, src.radius_m, src.currents, envelope_m(layout), distance_mm * MM)
-    return sf.max_T * UT
+    return source_stray_field(src, envelope_m(layout), distance_mm * MM).max_T * UT
+
+
+def source_stray_field(src: SourceArrays, env: tuple[float, float, float, float], d_m: float,
+                       **options) -> StrayField:  # noqa: ANN003
+    """:func:`~trayadvisor.engine.stray_field` of these sources, plates included."""
+    return stray_field(src.xy_m, src.radius_m, src.currents, env, d_m,
+                       reaction=src.reaction, frequency_hz=src.frequency_hz, **options)
+
+
+def source_clearance(src: SourceArrays, env: tuple[float, float, float, float],
+                     limit_T: float, **options) -> float:  # noqa: ANN003
+    """:func:`~trayadvisor.engine.clearance` of these sources, plates included."""
+    return clearance(src.xy_m, src.radius_m, src.currents, env, limit_T,
+                     reaction=src.reaction, frequency_hz=src.frequency_hz, **options)

@@ -18,8 +18,9 @@ The materials are linear (no saturation). The method and its checks are written 
 
 from trayadvisor.fem.materials import PLATE_MATERIALS, skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
+from trayadvisor.fem.reaction import PlateReaction, layout_reaction, material_data
 from trayadvisor.fem.solver import Plate, PlateSolver
 from trayadvisor.fem.tables import PlateField
 
-__all__ = ["PLATE_MATERIALS", "Plate", "PlateField", "PlateMesh", "PlateSolver", "build_mesh",
-           "skin_depth_m"]
+__all__ = ["PLATE_MATERIALS", "Plate", "PlateField", "PlateMesh", "PlateReaction",
+           "PlateSolver", "build_mesh", "layout_reaction", "material_data", "skin_depth_m"]

@@ -56,6 +56,8 @@ class Plate:
     y1: float
     mu_r: float
     sigma: float
+    #: Plates with the same body (≥ 0) are one conductor; −1: a body of its own.
+    body: int = -1
 
     @property
     def thickness_m(self) -> float:
@@ -155,11 +157,18 @@ class PlateSolver:
         a_mat = k_mat.astype(complex)
         self._b = []
         self._s = []
+        # one floating unknown per conducting body (plates joined by ``body``)
+        keys = [pl.body if pl.body >= 0 else -1 - k for k, pl in enumerate(self.plates)]
+        self.bodies = {key: [k for k in range(len(keys)) if keys[k] == key]
+                       for key in dict.fromkeys(keys)}
+        self._body_of = {k: list(self.bodies).index(keys[k]) for k in range(len(keys))}
         if eddy:
             a_mat = a_mat + 1j * self.omega * asm(mass, self.basis, sig=self._sig)
-            for k, pb in enumerate(self.plate_basis):
-                sig = np.full((pb.nelems, nqp), self.plates[k].sigma)
-                b = self._plate_row(pb, sig)
+            for members in self.bodies.values():
+                b = np.zeros(n)
+                for k in members:
+                    pb = self.plate_basis[k]
+                    b += self._plate_row(pb, np.full((pb.nelems, nqp), self.plates[k].sigma))
                 self._b.append(b)
                 self._s.append(float(b.sum()))
         boundary = self.basis.get_dofs().all()
@@ -170,12 +179,13 @@ class PlateSolver:
         if self._floating:
             cols = np.column_stack([-1j * self.omega * self._b[k][self._interior]
                                     for k in self._floating])
-            # the row −jω·(∫σ(A_r − c) + ∫σ A0) = 0 of each plate: symmetric with the columns
+            # the row −jω·(∫σ(A_r − c) + ∫σ A0) = 0 of each body: symmetric with the columns
             diag = np.diag([1j * self.omega * self._s[k] for k in self._floating])
             full = bmat([[a_ii, csc_matrix(cols)], [csc_matrix(cols.T), csc_matrix(diag)]])
         else:
             full = a_ii
         self._lu = splu(csc_matrix(full))
+        self._tree = None
 
     @staticmethod
     def _plate_row(pb, sig: np.ndarray) -> np.ndarray:  # noqa: ANN001
@@ -225,8 +235,10 @@ class PlateSolver:
                 if eddy:
                     f_sig = np.asarray(asm(induced, pb))
                     f = f - 1j * self.omega * f_sig
-                    if k in self._floating:
-                        rhs[ni + self._floating.index(k), c] += 1j * self.omega * f_sig.sum()
+                    body = self._body_of[k]
+                    if body in self._floating:
+                        rhs[ni + self._floating.index(body), c] += (
+                            1j * self.omega * f_sig.sum())
                 if not np.isscalar(f):
                     rhs[:ni, c] += f[self._interior]
         sol = self._lu.solve(rhs)
@@ -241,11 +253,102 @@ class PlateSolver:
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         th = np.arange(_PROBES) * (2.0 * math.pi / _PROBES)
         ring = (pts[:, None, :] + radius_m * np.stack([np.cos(th), np.sin(th)], axis=1)[None])
-        probe = self.basis.probes(ring.reshape(-1, 2).T)  # (m·P, N)
+        probe = self.probes(ring.reshape(-1, 2))  # (m·P, N)
         vals = (probe @ a_r).reshape(pts.shape[0], _PROBES, -1)  # (m, P, k)
         ax = 2.0 / (_PROBES * radius_m) * np.einsum("mpk,p->km", vals, np.cos(th))
         ay = 2.0 / (_PROBES * radius_m) * np.einsum("mpk,p->km", vals, np.sin(th))
         return np.stack([ay, -ax], axis=-1)
+
+    def losses_w_per_m(self, xy_src_m: np.ndarray, currents: np.ndarray) -> np.ndarray:
+        """Eddy-current loss of each plate, W/m, for RMS phasors ``currents`` (k,) A.
+
+        P = ∫_p |J|²/σ dA with J = −jωσ(A_r + A0 − c_p); zero at DC and in plates without
+        conductivity (hysteresis is not modelled: the materials are linear).
+        """
+        from skfem import Functional, asm
+
+        cur = np.asarray(currents, dtype=complex).reshape(-1)
+        out = np.zeros(len(self.plates))
+        if self.omega <= 0.0 or not self._floating and not any(
+                p.sigma > 0 for p in self.plates):
+            return out
+        xy = np.asarray(xy_src_m, dtype=float).reshape(-1, 2)
+        a = self.reaction(xy, weights=np.column_stack([cur.real, cur.imag]))
+        a_r = a[:, 0] + 1j * a[:, 1]
+        c = self._c[:, 0] + 1j * self._c[:, 1] if self._c.size else np.zeros(0)
+
+        @Functional
+        def joule(w):
+            a0 = np.tensordot(cur, free_potential(xy, w.x), axes=1) - w.cp
+            re = w.ar_re.value + a0.real
+            im = w.ar_im.value + a0.imag
+            return self.omega ** 2 * w.sig * (re * re + im * im)
+
+        for k, (pl, pb) in enumerate(zip(self.plates, self.plate_basis, strict=True)):
+            if pl.sigma <= 0.0:
+                continue
+            body = self._body_of[k]
+            cp = c[self._floating.index(body)] if body in self._floating else 0.0
+            out[k] = float(asm(joule, pb, ar_re=pb.interpolate(a_r.real),
+                               ar_im=pb.interpolate(a_r.imag), cp=cp, sig=pl.sigma))
+        return out
+
+    def locate(self, pts_m: np.ndarray) -> np.ndarray:
+        """The triangle holding each point (m, 2), or −1 outside the meshed disc.
+
+        A k-d tree of the triangles' centroids gives a few candidates per point; their
+        barycentric coordinates decide (more candidates for the few points left over).
+        """
+        from scipy.spatial import cKDTree
+
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        p, t = self.mesh.p, self.mesh.t
+        if self._tree is None:
+            self._tree = cKDTree(p[:, t].mean(axis=1).T)
+            e1 = p[:, t[1]] - p[:, t[0]]
+            e2 = p[:, t[2]] - p[:, t[0]]
+            det = e1[0] * e2[1] - e1[1] * e2[0]
+            self._inv = np.stack([[e2[1] / det, -e2[0] / det],
+                                  [-e1[1] / det, e1[0] / det]])  # (2, 2, T)
+        out = np.full(pts.shape[0], -1, dtype=np.int64)
+        cx, cy = self.mesh.centre_m
+        inside = np.hypot(pts[:, 0] - cx, pts[:, 1] - cy) < self.mesh.radius_m * (1 - 1e-9)
+        todo = np.flatnonzero(inside)
+        ntri = t.shape[1]
+        for k in (8, 32, 128, ntri):
+            if todo.size == 0:
+                break
+            kk = min(k, ntri)
+            _, cand = self._tree.query(pts[todo], kk)
+            cand = np.asarray(cand).reshape(todo.size, kk)
+            d = pts[todo][:, None, :] - p[:, t[0]].T[cand]  # (q, k, 2)
+            inv = self._inv[:, :, cand]  # (2, 2, q, k)
+            lam1 = inv[0, 0] * d[..., 0] + inv[0, 1] * d[..., 1]
+            lam2 = inv[1, 0] * d[..., 0] + inv[1, 1] * d[..., 1]
+            tol = -1e-10
+            ok = (lam1 >= tol) & (lam2 >= tol) & (1.0 - lam1 - lam2 >= tol)
+            hit = ok.any(axis=1)
+            out[todo[hit]] = cand[hit, ok[hit].argmax(axis=1)]
+            todo = todo[~hit]
+        return out
+
+    def probes(self, pts_m: np.ndarray):  # noqa: ANN201
+        """Sparse (m, N) matrix: the value of a P2 function at each point (m, 2); rows of
+        points outside the meshed disc are zero (the reaction is taken as 0 there)."""
+        from scipy.sparse import coo_matrix
+
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        cells = self.locate(pts)
+        use = np.flatnonzero(cells >= 0)
+        b = self.basis
+        if use.size == 0:
+            return coo_matrix((pts.shape[0], b.N)).tocsr()
+        ref = b.mapping.invF(pts[use].T[:, :, None], tind=cells[use])
+        phis = np.array([b.elem.gbasis(b.mapping, ref, k, tind=cells[use])[0]
+                         for k in range(b.Nbfun)]).reshape(b.Nbfun, -1)
+        rows = np.tile(use, b.Nbfun)
+        cols = b.element_dofs[:, cells[use]].reshape(-1)
+        return coo_matrix((phis.reshape(-1), (rows, cols)), shape=(pts.shape[0], b.N)).tocsr()
 
     def field(self, xy_src_m: np.ndarray, pts_m: np.ndarray) -> np.ndarray:
         """Total B per ampere of each source, (k, m, 2) complex: free space + reaction."""

@@ -51,5 +51,5 @@ class PlateField:
         out = np.empty((self.frequencies.size, xy.shape[0], xy.shape[0]), dtype=complex)
         for h, f in enumerate(self.frequencies):
             solver = self.solvers[float(f)]
-            out[h] = solver.basis.probes(xy.T) @ solver.reaction(xy)
+            out[h] = solver.probes(xy) @ solver.reaction(xy)
         return out

@@ -39,7 +39,7 @@ from trayadvisor.engine import (
     offset_points,
     path_points_mm,
     place_maxima,
-    stray_field,
+    source_stray_field,
 )
 from trayadvisor.engine.units import MM, UT
 from trayadvisor.limits import Rule, resolve_limit
@@ -84,8 +84,8 @@ class Objective:
                 worst = max(worst, value)
             return float(worst)
         if self.kind == "contour":
-            sf = stray_field(s.xy_m, s.radius_m, s.currents, envelope_m(layout),
-                             self.distance_m, measure=self.measure)
+            sf = source_stray_field(s, envelope_m(layout), self.distance_m,
+                                    measure=self.measure)
             return float(sf.max_T * UT)
         place = (layout.line(str(self.name)) if self.kind == "line"
                  else layout.point(str(self.name)))

@@ -1,0 +1,193 @@
+"""The plates of a layout as the engine's ``Reaction``: what steel and aluminium add.
+
+:func:`layout_reaction` turns a layout's plates (``[[plate]]`` entries and sheet trays) into
+a :class:`PlateReaction`, or None without plates. The engine adds its ``field`` to the
+free-space field of the same currents (:meth:`trayadvisor.engine.SourceArrays.field_at`), so
+every figure — points, lines, areas, the curve at d, field maps — sees the plates; the
+ranking takes ``unit_fields`` and the sharing solve ``potentials``.
+
+Re-use, so that an edit or a search costs back-substitutions, not meshes:
+
+- solvers (mesh + factorisation) are cached per plates, frequency and meshed extent; the
+  extent is the trays, the plates and the conductors, rounded outwards to 50 mm, so moving a
+  conductor inside its tray keeps the solver;
+- each solver keeps the reaction potential of a unit current at every position it has seen
+  (least recently used first out, within a memory budget): a moved conductor costs one
+  back-substitution.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import OrderedDict
+
+import numpy as np
+
+from trayadvisor.engine.units import MM
+from trayadvisor.fem.materials import PLATE_MATERIALS
+from trayadvisor.fem.solver import Plate, PlateSolver
+from trayadvisor.model import Layout
+
+#: Solvers kept (each holds a factorisation: tens of MB).
+_SOLVERS_KEPT = 6
+#: Memory for cached unit reaction potentials per solver, bytes.
+_UNIT_BYTES = 96 * 2**20
+#: The meshed extent is rounded outwards to this grid, m.
+_EXTENT_GRID_M = 0.05
+
+_solvers: OrderedDict[tuple, PlateSolver] = OrderedDict()
+
+
+def material_data(material: str | None, mu_r: float | None, sigma: float | None
+                  ) -> tuple[float, float]:
+    """(μr, σ S/m) of a plate: the explicit values, else the material's typical ones."""
+    base = PLATE_MATERIALS.get(material or "", (None, None))
+    m = mu_r if mu_r is not None else base[0]
+    s = sigma if sigma is not None else base[1]
+    if m is None or s is None:
+        raise ValueError(f"plate material {material!r} needs mu_r and sigma_s_per_m")
+    return float(m), float(s)
+
+
+def solver_plates(layout: Layout) -> list[Plate]:
+    """The layout's plates (``all_plates``) in metres with their data and body numbers."""
+    plates = layout.all_plates()
+    bodies = {name: k for k, name in enumerate(dict.fromkeys(p.body_name for p in plates))}
+    out = []
+    for p in plates:
+        mu_r, sigma = material_data(p.material, p.mu_r, p.sigma_s_per_m)
+        x0, y0, x1, y1 = p.bounds
+        out.append(Plate(x0 * MM, y0 * MM, x1 * MM, y1 * MM, mu_r, sigma, bodies[p.body_name]))
+    return out
+
+
+def meshed_extent_m(layout: Layout) -> tuple[float, float, float, float]:
+    """Trays, plates and conductors, m, rounded outwards to the extent grid."""
+    boxes = [t.outer_bounds for t in layout.trays] + [p.bounds for p in layout.all_plates()]
+    boxes += [(c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
+               c.y_mm + c.radius_mm) for c in layout.conductors]
+    g = _EXTENT_GRID_M
+    return (math.floor(min(b[0] for b in boxes) * MM / g) * g,
+            math.floor(min(b[1] for b in boxes) * MM / g) * g,
+            math.ceil(max(b[2] for b in boxes) * MM / g) * g,
+            math.ceil(max(b[3] for b in boxes) * MM / g) * g)
+
+
+def cached_solver(plates: tuple[Plate, ...], frequency_hz: float,
+                  extent_m: tuple[float, float, float, float]) -> PlateSolver:
+    """The solver of these plates at this frequency (built once, then reused)."""
+    key = (plates, float(frequency_hz), extent_m)
+    solver = _solvers.get(key)
+    if solver is None:
+        solver = PlateSolver(list(plates), float(frequency_hz), extent_m)
+        _solvers[key] = solver
+        while len(_solvers) > _SOLVERS_KEPT:
+            _solvers.popitem(last=False)
+    else:
+        _solvers.move_to_end(key)
+    return solver
+
+
+class PlateReaction:
+    """The plates' addition to the field and the potentials of line currents.
+
+    Parameters
+    ----------
+    plates : sequence of Plate
+        In metres (:func:`solver_plates`).
+    extent_m : (x0, y0, x1, y1)
+        The finely meshed extent (:func:`meshed_extent_m`).
+    """
+
+    def __init__(self, plates: list[Plate] | tuple[Plate, ...],
+                 extent_m: tuple[float, float, float, float]) -> None:
+        self.plates = tuple(plates)
+        self.extent_m = extent_m
+        self._units: dict[float, OrderedDict[tuple[float, float], np.ndarray]] = {}
+
+    def inside(self, pts_m: np.ndarray) -> np.ndarray:
+        """(m,) bool: points strictly inside a plate."""
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        out = np.zeros(pts.shape[0], dtype=bool)
+        for p in self.plates:
+            out |= ((pts[:, 0] > p.x0) & (pts[:, 0] < p.x1)
+                    & (pts[:, 1] > p.y0) & (pts[:, 1] < p.y1))
+        return out
+
+    def solver(self, frequency_hz: float) -> PlateSolver:
+        return cached_solver(self.plates, frequency_hz, self.extent_m)
+
+    def _unit_potentials(self, xy_m: np.ndarray, frequency_hz: float) -> np.ndarray:
+        """(N, n) reaction potential of 1 A at each centre; new centres in one solve."""
+        solver = self.solver(frequency_hz)
+        cache = self._units.setdefault(float(frequency_hz), OrderedDict())
+        keys = [(float(x), float(y)) for x, y in np.asarray(xy_m, float).reshape(-1, 2)]
+        new = [k for k in dict.fromkeys(keys) if k not in cache]
+        if new:
+            cols = solver.reaction(np.array(new))
+            for k, col in zip(new, cols.T, strict=True):
+                cache[k] = col
+        for k in keys:
+            cache.move_to_end(k)
+        out = np.column_stack([cache[k] for k in keys]) if keys else np.zeros((solver._n, 0))
+        keep = max(len(keys), _UNIT_BYTES // (16 * max(solver._n, 1)))
+        while len(cache) > keep:
+            cache.popitem(last=False)
+        return out
+
+    def field(self, xy_m: np.ndarray, currents: np.ndarray, frequency_hz: np.ndarray,
+              pts_m: np.ndarray) -> np.ndarray:
+        """(H, m, 2) complex: the plates' reaction field of the currents (H, n) at points."""
+        cur = np.asarray(currents, dtype=complex).reshape(len(frequency_hz), -1)
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        out = np.zeros((cur.shape[0], pts.shape[0], 2), dtype=complex)
+        for h, f in enumerate(np.asarray(frequency_hz, dtype=float)):
+            if not np.any(cur[h]):
+                continue
+            a = self._unit_potentials(xy_m, f) @ cur[h]
+            out[h] = self.solver(f).reaction_field(a[:, None], pts)[0]
+        return out
+
+    def unit_fields(self, xy_m: np.ndarray, frequency_hz: np.ndarray, pts_m: np.ndarray
+                    ) -> np.ndarray:
+        """(H, n, m, 2) complex: the reaction field of 1 A at each centre, at each point."""
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        xy = np.asarray(xy_m, dtype=float).reshape(-1, 2)
+        freqs = np.asarray(frequency_hz, dtype=float).reshape(-1)
+        out = np.empty((freqs.size, xy.shape[0], pts.shape[0], 2), dtype=complex)
+        for h, f in enumerate(freqs):
+            out[h] = self.solver(f).reaction_field(self._unit_potentials(xy, f), pts)
+        return out
+
+    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray) -> np.ndarray:
+        """(H, n, n) complex: the reaction potential at centre i of 1 A at centre j, V·s/m.
+
+        The plates' addition to the mutual inductance is this (the reaction potential is
+        harmonic inside a conductor, so its centre value is its mean over the section); the
+        impedance addition is jω times it. Symmetric to the discretisation (reciprocity).
+        """
+        xy = np.asarray(xy_m, dtype=float).reshape(-1, 2)
+        freqs = np.asarray(frequency_hz, dtype=float).reshape(-1)
+        out = np.empty((freqs.size, xy.shape[0], xy.shape[0]), dtype=complex)
+        for h, f in enumerate(freqs):
+            u = self._unit_potentials(xy, f)
+            out[h] = self.solver(f).probes(xy) @ u
+            out[h] = 0.5 * (out[h] + out[h].T)
+        return out
+
+    def losses_w_per_m(self, xy_m: np.ndarray, currents: np.ndarray,
+                       frequency_hz: np.ndarray) -> np.ndarray:
+        """(plates,) eddy-current loss of each plate summed over the components, W/m."""
+        cur = np.asarray(currents, dtype=complex).reshape(len(frequency_hz), -1)
+        total = np.zeros(len(self.plates))
+        for h, f in enumerate(np.asarray(frequency_hz, dtype=float)):
+            if f > 0 and np.any(cur[h]):
+                total += self.solver(f).losses_w_per_m(xy_m, cur[h])
+        return total
+
+
+def layout_reaction(layout: Layout) -> PlateReaction | None:
+    """The plates of ``layout`` as a reaction, or None when it has none."""
+    if not layout.all_plates():
+        return None
+    return PlateReaction(solver_plates(layout), meshed_extent_m(layout))
