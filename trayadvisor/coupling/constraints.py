@@ -26,12 +26,13 @@ from trayadvisor.coupling.system import (
     SharingPlan,
     check_current_model,
     group_imbalance_pct,
+    plate_sources,
     sharing_plan,
     solve_parts,
     solve_plan,
 )
 from trayadvisor.coupling.victims import EmfPlan, emf_phasors, emf_plan
-from trayadvisor.engine import layout_sources
+from trayadvisor.engine import Reaction
 from trayadvisor.engine.units import MM, MV
 from trayadvisor.model import Layout
 
@@ -171,6 +172,7 @@ class _EmfSetup:
     omega: np.ndarray  # (H,)
     currents: np.ndarray  # (H, n) equal shares
     sharing: SharingPlan | None
+    reaction: Reaction | None = None  # plates nearby
 
 
 class InducedVoltageConstraint(_PlanCache):
@@ -186,9 +188,10 @@ class InducedVoltageConstraint(_PlanCache):
         self.temperature_c = float(temperature_c)
 
     def _build(self, layout: Layout) -> _EmfSetup:
-        src = layout_sources(layout)
+        src = plate_sources(layout)
         shp = sharing_plan(layout, self.temperature_c) if self.currents == "solved" else None
-        return _EmfSetup(emf_plan(layout), 2.0 * np.pi * src.frequency_hz, src.currents, shp)
+        return _EmfSetup(emf_plan(layout), 2.0 * np.pi * src.frequency_hz, src.currents, shp,
+                         src.reaction)
 
     def items(self, layout: Layout, xy_m: np.ndarray) -> tuple[np.ndarray, tuple[str, ...]]:
         """EMF (mV/m, RMS over harmonics) of every victim, (..., V), and the victims."""
@@ -197,7 +200,7 @@ class InducedVoltageConstraint(_PlanCache):
             return np.zeros((*np.shape(xy_m)[:-2], 0)), ()
         xy = np.asarray(xy_m, dtype=float)
         cur = st.currents if st.sharing is None else solve_plan(st.sharing, xy)
-        emf, _ = emf_phasors(st.plan, xy, cur, st.omega)
+        emf, _ = emf_phasors(st.plan, xy, cur, st.omega, reaction=st.reaction)
         return np.sqrt(np.sum(np.abs(emf) ** 2, axis=-2)) * MV, st.plan.victims
 
 

@@ -94,7 +94,13 @@ def standing_emf(plan: SharingPlan, xy_m: np.ndarray, net: np.ndarray,
     d = np.hypot(*(np.asarray(xy_m) - np.asarray(xy_m)[core]).T)
     d[core] = sc.radius_m[screen]
     lam = np.log(d)  # (n,)
-    return 1j * plan.omega * K_LINE * (net @ -lam)
+    psi = net @ -(K_LINE * lam)  # (H,)
+    reaction = plan.sources.reaction
+    if reaction is not None:  # the plates' reaction potential at the screen (its core)
+        xy = np.asarray(xy_m, dtype=float)
+        pot = reaction.potentials(xy, plan.sources.frequency_hz, xy[core:core + 1])
+        psi = psi + np.einsum("hn,hn->h", pot[:, 0, :], net)
+    return 1j * plan.omega * psi
 
 
 def induced_figures(layout: Layout, plan: SharingPlan, xy_m: np.ndarray, cores: np.ndarray,

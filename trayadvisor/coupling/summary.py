@@ -17,8 +17,8 @@ from trayadvisor.coupling.sharing import (
     check_current_model,
     solve_sharing,
 )
+from trayadvisor.coupling.system import plate_sources
 from trayadvisor.coupling.victims import VictimFigure, induced_emf
-from trayadvisor.engine import layout_sources
 from trayadvisor.engine.units import UH
 from trayadvisor.model import Layout
 
@@ -96,7 +96,7 @@ def coupling_summary(layout: Layout, length_m: float | None = None, currents: st
     """
     solved = check_current_model(currents) == "solved"
     shares = solve_sharing(layout, temperature_c)
-    src = layout_sources(layout)
+    src = plate_sources(layout)
     if solved:
         src = replace(src, currents=shares.currents)
     if earth_y_mm is None:

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trayadvisor.coupling.inductance import grover_mutual_finite
-from trayadvisor.engine import SourceArrays, layout_sources
+from trayadvisor.engine import Reaction, SourceArrays, layout_sources
 from trayadvisor.engine.units import K_LINE, MM, MV
 from trayadvisor.model import Layout
 
@@ -110,7 +110,8 @@ def vector_potential_kernel(src_xy_m: np.ndarray, pts_m: np.ndarray) -> np.ndarr
 
 
 def emf_phasors(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray, omega: np.ndarray,
-                earth_y_m: float | None = None) -> tuple[np.ndarray, np.ndarray | None]:
+                earth_y_m: float | None = None, reaction: Reaction | None = None
+                ) -> tuple[np.ndarray, np.ndarray | None]:
     """Per-metre EMF phasor of each victim loop at each component.
 
     Parameters
@@ -124,6 +125,8 @@ def emf_phasors(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray, omega: np
         Angular frequency of each component, rad/s.
     earth_y_m : float, optional
         Height of the earth reference plane, m.
+    reaction : Reaction, optional
+        Plates nearby (:mod:`trayadvisor.fem`): their reaction potential is added.
 
     Returns
     -------
@@ -143,6 +146,9 @@ def emf_phasors(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray, omega: np
     i_s = currents[..., plan.source]  # (..., H, s)
     kern = vector_potential_kernel(src_xy, pts)  # (..., p, s)
     a = i_s @ np.swapaxes(kern, -1, -2)  # (..., H, p)
+    freqs = omega / (2.0 * np.pi)
+    if reaction is not None:
+        a = a + _plate_potential(reaction, src_xy, i_s, freqs, pts)
     jw = 1j * omega[:, None]
     emf = jw * (a @ plan.weights.T)
     if earth_y_m is None:
@@ -151,24 +157,45 @@ def emf_phasors(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray, omega: np
     foot = np.stack([cen[..., 0], np.full(cen.shape[:-1], earth_y_m)], axis=-1)
     k_c = vector_potential_kernel(src_xy, cen)
     k_f = vector_potential_kernel(src_xy, foot)
-    return emf, jw * (i_s @ np.swapaxes(k_c - k_f, -1, -2))
+    diff = i_s @ np.swapaxes(k_c - k_f, -1, -2)
+    if reaction is not None:
+        diff = diff + (_plate_potential(reaction, src_xy, i_s, freqs, cen)
+                       - _plate_potential(reaction, src_xy, i_s, freqs, foot))
+    return emf, jw * diff
+
+
+def _plate_potential(reaction: Reaction, src_xy: np.ndarray, i_s: np.ndarray,
+                     freqs: np.ndarray, pts: np.ndarray) -> np.ndarray:
+    """(..., H, p) the plates' reaction potential of the currents at the points."""
+    batch = pts.shape[:-2]
+    sx = np.broadcast_to(src_xy, (*batch, *src_xy.shape[-2:])).reshape(-1, *src_xy.shape[-2:])
+    cur = np.broadcast_to(i_s, (*batch, *i_s.shape[-2:])).reshape(-1, *i_s.shape[-2:])
+    flat = pts.reshape(-1, *pts.shape[-2:])
+    out = [np.einsum("hps,hs->hp", reaction.potentials(s, freqs, p), c)
+           for s, c, p in zip(sx, cur, flat, strict=True)]
+    return np.stack(out).reshape(*batch, freqs.size, pts.shape[-2])
 
 
 def finite_run_emf(plan: EmfPlan, xy_m: np.ndarray, currents: np.ndarray,
-                   omega: np.ndarray, length_m: float) -> np.ndarray:
+                   omega: np.ndarray, length_m: float, reaction: Reaction | None = None
+                   ) -> np.ndarray:
     """|EMF| per metre of run of every victim over a run of ``length_m``, (H, V) V/m.
 
     Notes
     -----
     Each source–victim line pair is coupled by Grover's partial mutual inductance of two
     parallel filaments of length l, M(l, d) / l per metre, instead of (μ0/2π) ln(1/d).
-    References: Grover, *Inductance Calculations*, 1946.
+    Plates (``reaction``) add their per-metre reaction unchanged: their own end effects
+    are not modelled. References: Grover, *Inductance Calculations*, 1946.
     """
     pts = xy_m[plan.points]
     src = xy_m[plan.source]
     d = np.hypot(pts[:, None, 0] - src[None, :, 0], pts[:, None, 1] - src[None, :, 1])
     g = grover_mutual_finite(length_m, d) / length_m  # (p, s) H/m
     psi = currents[:, plan.source] @ g.T  # (H, p)
+    if reaction is not None:
+        psi = psi + _plate_potential(reaction, src, currents[:, plan.source],
+                                     omega / (2.0 * np.pi), pts)
     return np.abs(omega[:, None] * (psi @ plan.weights.T))
 
 
@@ -214,13 +241,13 @@ def induced_emf(layout: Layout, length_m: float | None = None,
     omega = 2.0 * np.pi * src.frequency_hz
     xy = src.xy_m
     earth_m = None if earth_y_mm is None else float(earth_y_mm) * MM
-    emf, earth = emf_phasors(plan, xy, src.currents, omega, earth_m)
+    emf, earth = emf_phasors(plan, xy, src.currents, omega, earth_m, src.reaction)
     mag = np.abs(emf)  # (H, V)
     total = np.sqrt(np.sum(mag**2, axis=0))
     e_tot = None if earth is None else np.sqrt(np.sum(np.abs(earth) ** 2, axis=0))
     fin_tot: dict[float, np.ndarray] = {}  # one kernel per distinct run length
     for length in {float(x) for x in plan.lengths if x is not None}:
-        fin = finite_run_emf(plan, xy, src.currents, omega, length)
+        fin = finite_run_emf(plan, xy, src.currents, omega, length, src.reaction)
         fin_tot[length] = np.sqrt(np.sum(fin**2, axis=0))
     out: list[VictimFigure] = []
     ac = src.orders > 0

@@ -46,8 +46,10 @@ class Reaction(Protocol):
         """(H, n, m, 2) complex field added per ampere of each conductor."""
         ...
 
-    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray) -> np.ndarray:
-        """(H, n, n) complex vector potential added at conductor i per ampere in j, V·s/m."""
+    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray,
+                   pts_m: np.ndarray | None = None) -> np.ndarray:
+        """(H, p, n) complex vector potential added at point i (default: the conductors,
+        symmetrised) per ampere in conductor j, V·s/m."""
         ...
 
 

@@ -8,9 +8,10 @@
 - :mod:`~trayadvisor.fem.solver` — the time-harmonic vector potential of the plates'
   *reaction* to line currents, by P2 elements (scikit-fem) and one sparse LU factorisation
   per frequency, reused for every source.
-- :mod:`~trayadvisor.fem.tables` — ``PlateField``: one solver per frequency component; the
-  unit field of every conductor at given points (free space plus reaction) and the
-  reaction potentials between conductors (the impedance additions of the sharing solve).
+- :mod:`~trayadvisor.fem.reaction` — ``PlateReaction``: a layout's plates as the engine's
+  ``Reaction`` (cached solvers per frequency, cached unit potentials per position): the
+  field the plates add, the unit-field tables of the ranking, the reaction potentials of
+  the sharing solve and the victims, and the plates' eddy-current loss.
 
 The materials are linear (no saturation). The method and its checks are written up in
 ``docs/method.md`` ("Plates").
@@ -20,7 +21,6 @@ from trayadvisor.fem.materials import PLATE_MATERIALS, skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
 from trayadvisor.fem.reaction import PlateReaction, layout_reaction, material_data
 from trayadvisor.fem.solver import Plate, PlateSolver
-from trayadvisor.fem.tables import PlateField
 
-__all__ = ["PLATE_MATERIALS", "Plate", "PlateField", "PlateMesh", "PlateReaction",
+__all__ = ["PLATE_MATERIALS", "Plate", "PlateMesh", "PlateReaction",
            "PlateSolver", "build_mesh", "layout_reaction", "material_data", "skin_depth_m"]

@@ -32,6 +32,9 @@ from trayadvisor.model import Layout
 _SOLVERS_KEPT = 6
 #: Memory for cached unit reaction potentials per solver, bytes.
 _UNIT_BYTES = 96 * 2**20
+#: Reaction potentials of whole arrangements kept (the curve, places and maps of one
+#: layout evaluate the same currents many times).
+_COMBINED_KEPT = 32
 #: The meshed extent is rounded outwards to this grid, m.
 _EXTENT_GRID_M = 0.05
 
@@ -104,6 +107,7 @@ class PlateReaction:
         self.plates = tuple(plates)
         self.extent_m = extent_m
         self._units: dict[float, OrderedDict[tuple[float, float], np.ndarray]] = {}
+        self._combined: OrderedDict[tuple, np.ndarray] = OrderedDict()
 
     def inside(self, pts_m: np.ndarray) -> np.ndarray:
         """(m,) bool: points strictly inside a plate."""
@@ -141,10 +145,19 @@ class PlateReaction:
         cur = np.asarray(currents, dtype=complex).reshape(len(frequency_hz), -1)
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         out = np.zeros((cur.shape[0], pts.shape[0], 2), dtype=complex)
+        xy = np.ascontiguousarray(xy_m, dtype=float).reshape(-1, 2)
         for h, f in enumerate(np.asarray(frequency_hz, dtype=float)):
             if not np.any(cur[h]):
                 continue
-            a = self._unit_potentials(xy_m, f) @ cur[h]
+            key = (float(f), xy.tobytes(), np.ascontiguousarray(cur[h]).tobytes())
+            a = self._combined.get(key)
+            if a is None:
+                a = self._unit_potentials(xy, f) @ cur[h]
+                self._combined[key] = a
+                while len(self._combined) > _COMBINED_KEPT:
+                    self._combined.popitem(last=False)
+            else:
+                self._combined.move_to_end(key)
             out[h] = self.solver(f).reaction_field(a[:, None], pts)[0]
         return out
 
@@ -159,20 +172,23 @@ class PlateReaction:
             out[h] = self.solver(f).reaction_field(self._unit_potentials(xy, f), pts)
         return out
 
-    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray) -> np.ndarray:
-        """(H, n, n) complex: the reaction potential at centre i of 1 A at centre j, V·s/m.
+    def potentials(self, xy_m: np.ndarray, frequency_hz: np.ndarray,
+                   pts_m: np.ndarray | None = None) -> np.ndarray:
+        """(H, p, n) complex: the reaction potential at point i of 1 A at centre j, V·s/m.
 
-        The plates' addition to the mutual inductance is this (the reaction potential is
-        harmonic inside a conductor, so its centre value is its mean over the section); the
-        impedance addition is jω times it. Symmetric to the discretisation (reciprocity).
+        Without ``pts_m`` the points are the centres (H, n, n): the plates' addition to the
+        mutual inductance per metre (the reaction potential is harmonic inside a conductor,
+        so its centre value is its mean over the section); the impedance addition is jω
+        times it. That matrix is symmetrised (reciprocity holds to the discretisation).
         """
         xy = np.asarray(xy_m, dtype=float).reshape(-1, 2)
+        pts = xy if pts_m is None else np.asarray(pts_m, dtype=float).reshape(-1, 2)
         freqs = np.asarray(frequency_hz, dtype=float).reshape(-1)
-        out = np.empty((freqs.size, xy.shape[0], xy.shape[0]), dtype=complex)
+        out = np.empty((freqs.size, pts.shape[0], xy.shape[0]), dtype=complex)
         for h, f in enumerate(freqs):
-            u = self._unit_potentials(xy, f)
-            out[h] = self.solver(f).probes(xy) @ u
-            out[h] = 0.5 * (out[h] + out[h].T)
+            out[h] = self.solver(f).probes(pts) @ self._unit_potentials(xy, f)
+            if pts_m is None:
+                out[h] = 0.5 * (out[h] + out[h].T)
         return out
 
     def losses_w_per_m(self, xy_m: np.ndarray, currents: np.ndarray,

@@ -18,8 +18,10 @@ right-hand side is −∫(ν − ν0)∇A0·∇v − jω∫σ A0 v, an integral 
   boundary's error near the plates is of the order (size/radius)².
 - **One factorisation per frequency** (scipy.sparse.linalg.splu), one back-substitution per
   source: the field of any arrangement is Σ_k I_k G_k (linear materials).
-- **B at a point** from A_r: the first Fourier mode of A_r on a small circle around the point
-  (16 probes), B = (∂A/∂y, −∂A/∂x), plus the closed-form free-space field.
+- **B at a point** from A_r: B = (∂A_r/∂y, −∂A_r/∂x) of the P2 solution in the element that
+  holds the point, plus the closed-form free-space field. A_r has no singularity (the
+  sources stay in A0), so the P2 gradient is accurate; a gradient of the total potential
+  near a source would not be.
 
 At ω = 0 (DC) only the permeability acts (σ plays no part).
 
@@ -42,8 +44,8 @@ from trayadvisor.fem.materials import skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
 
 _K = MU0 / (2.0 * math.pi)
-#: Probes on the small circle that reads B at a point (the first Fourier mode of A_r).
-_PROBES = 16
+#: Largest length-to-thickness ratio of the cells of a plate's structured layers.
+_ASPECT = 5.0
 
 
 @dataclass(frozen=True)
@@ -126,8 +128,11 @@ class PlateSolver:
             if math.isfinite(delta):
                 h = min(h, delta / 2.0)
             hs.append(max(h / plate_refine, 1e-5))
+        # along a plate the field varies on the scale of the sources' distance: the near
+        # size, but cells no longer than _ASPECT times their thickness
+        along = [min(near / plate_refine, _ASPECT * h) for h in hs]
         self.mesh: PlateMesh = build_mesh([(p.x0, p.y0, p.x1, p.y1) for p in self.plates],
-                                          hs, near, radius_m, extent_m, growth)
+                                          hs, near, radius_m, extent_m, growth, along)
         m = MeshTri(self.mesh.p, self.mesh.t)
         self.basis = Basis(m, ElementTriP2())
         region = self.mesh.region
@@ -247,17 +252,12 @@ class PlateSolver:
         self._c = sol[ni:]
         return out
 
-    def reaction_field(self, a_r: np.ndarray, pts_m: np.ndarray,
-                       radius_m: float = 2e-3) -> np.ndarray:
-        """B_r (k, m, 2) complex at points (m, 2) from the reaction potentials (N, k)."""
-        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
-        th = np.arange(_PROBES) * (2.0 * math.pi / _PROBES)
-        ring = (pts[:, None, :] + radius_m * np.stack([np.cos(th), np.sin(th)], axis=1)[None])
-        probe = self.probes(ring.reshape(-1, 2))  # (m·P, N)
-        vals = (probe @ a_r).reshape(pts.shape[0], _PROBES, -1)  # (m, P, k)
-        ax = 2.0 / (_PROBES * radius_m) * np.einsum("mpk,p->km", vals, np.cos(th))
-        ay = 2.0 / (_PROBES * radius_m) * np.einsum("mpk,p->km", vals, np.sin(th))
-        return np.stack([ay, -ax], axis=-1)
+    def reaction_field(self, a_r: np.ndarray, pts_m: np.ndarray) -> np.ndarray:
+        """B_r (k, m, 2) complex at points (m, 2) from the reaction potentials (N, k):
+        B = (∂A/∂y, −∂A/∂x) of the P2 potential in the element holding each point (the
+        reaction is smooth where no plate is: no source singularity meets the mesh)."""
+        dx, dy = self.gradient_probes(pts_m)
+        return np.stack([(dy @ a_r).T, -(dx @ a_r).T], axis=-1)
 
     def losses_w_per_m(self, xy_src_m: np.ndarray, currents: np.ndarray) -> np.ndarray:
         """Eddy-current loss of each plate, W/m, for RMS phasors ``currents`` (k,) A.
@@ -331,6 +331,27 @@ class PlateSolver:
             out[todo[hit]] = cand[hit, ok[hit].argmax(axis=1)]
             todo = todo[~hit]
         return out
+
+    def gradient_probes(self, pts_m: np.ndarray):  # noqa: ANN201
+        """Sparse (m, N) matrices of ∂/∂x and ∂/∂y of a P2 function at each point; zero rows
+        outside the meshed disc."""
+        from scipy.sparse import coo_matrix
+
+        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
+        cells = self.locate(pts)
+        use = np.flatnonzero(cells >= 0)
+        b = self.basis
+        shape = (pts.shape[0], b.N)
+        if use.size == 0:
+            empty = coo_matrix(shape).tocsr()
+            return empty, empty
+        ref = b.mapping.invF(pts[use].T[:, :, None], tind=cells[use])
+        grads = np.array([b.elem.gbasis(b.mapping, ref, k, tind=cells[use])[0].grad
+                          for k in range(b.Nbfun)]).reshape(b.Nbfun, 2, -1)
+        rows = np.tile(use, b.Nbfun)
+        cols = b.element_dofs[:, cells[use]].reshape(-1)
+        return tuple(coo_matrix((grads[:, c].reshape(-1), (rows, cols)), shape=shape).tocsr()
+                     for c in range(2))
 
     def probes(self, pts_m: np.ndarray):  # noqa: ANN201
         """Sparse (m, N) matrix: the value of a P2 function at each point (m, 2); rows of

@@ -4,7 +4,8 @@
 - :mod:`~trayadvisor.layoutfile.reader` — ``read_layout`` / ``parse_layout``: bounded reads,
   TOML, every problem as one ``FILE:LINE: message``; the built-in demo layout.
 - :mod:`~trayadvisor.layoutfile.checks` — ``layout_problems`` / ``validate_layout`` on a model
-  (from a file or edited in the UI).
+  (from a file or edited in the UI); the checks of places, screens and plates (with sheet
+  trays) are in ``placechecks``, ``screenchecks`` and ``platechecks``.
 - :mod:`~trayadvisor.layoutfile.linemap` — where each key was written (tomllib gives none).
 - :mod:`~trayadvisor.layoutfile.writer` — ``dumps_layout`` / ``write_layout`` and
   ``atomic_write_text`` (a temp file in the same folder, then ``os.replace``).

@@ -21,6 +21,7 @@ from trayadvisor.layoutfile.placechecks import (
     place_references,
     place_values,
 )
+from trayadvisor.layoutfile.platechecks import plate_geometry, plate_names, plate_values
 from trayadvisor.layoutfile.schema import TABLES
 from trayadvisor.layoutfile.screenchecks import screen_references, screen_values
 from trayadvisor.model import MATERIALS, PHASES, REQUIRED_PHASES, SYSTEMS, Layout
@@ -44,7 +45,10 @@ def _g(v: float) -> str:
 
 #: Numeric keys per table: unit, then ">0" / ">=0" for a lower bound, "?" when optional.
 _NUMBERS: dict[str, dict[str, str]] = {
-    "tray": {"x_mm": "mm", "y_mm": "mm", "width_mm": "mm >0", "depth_mm": "mm >0"},
+    "tray": {"x_mm": "mm", "y_mm": "mm", "width_mm": "mm >0", "depth_mm": "mm >0",
+             "sheet_mm": "mm >0"},
+    "plate": {"x_mm": "mm", "y_mm": "mm", "width_mm": "mm", "height_mm": "mm",
+              "sigma_s_per_m": "S/m >=0 ?"},  # sizes > 0 and mu_r: platechecks
     "circuit": {"current_a": "A >=0", "angle_deg": "degrees", "length_m": "m >0 ?"},
     "conductor": {"x_mm": "mm", "y_mm": "mm", "diameter_mm": "mm >0", "area_mm2": "mm² >0 ?",
                   "current_a": "A >=0 ?", "angle_deg": "degrees ?",
@@ -302,14 +306,16 @@ def layout_problems(layout: Layout, path: str = "<layout>",
     list of LayoutError
         Empty when the layout is valid. Stages, in order: values (finite, in range, known
         words), duplicate names, references (circuit, tray, phase, harmonics of dc),
-        geometry (inside trays, no overlap, no conductor in an area), circuits able to carry
-        their current. The checks of places and place-bound limits are in
-        :mod:`trayadvisor.layoutfile.placechecks`.
+        geometry (inside trays, no overlap, no conductor in an area, nothing reaching into a
+        plate), circuits able to carry their current. The checks of places and place-bound
+        limits are in :mod:`trayadvisor.layoutfile.placechecks`, those of plates and sheet
+        trays in :mod:`trayadvisor.layoutfile.platechecks`.
     """
     ck = _Checks(layout, path, lines)
-    stages = ((_stage_values, place_values, screen_values), (_stage_duplicates, place_names),
+    stages = ((_stage_values, place_values, screen_values, plate_values),
+              (_stage_duplicates, place_names, plate_names),
               (_stage_references, place_references, screen_references),
-              (_stage_geometry, area_geometry), (_stage_carrying,))
+              (_stage_geometry, area_geometry, plate_geometry), (_stage_carrying,))
     for stage, runs in enumerate(stages):
         ck.stage = stage
         for run in runs:

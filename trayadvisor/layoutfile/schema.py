@@ -15,6 +15,7 @@ from trayadvisor.model import (
     ObservationArea,
     ObservationLine,
     ObservationPoint,
+    Plate,
     Tray,
 )
 
@@ -44,7 +45,13 @@ class Table:
 TABLES: dict[str, Table] = {
     "tray": Table(Tray, "trays", {
         "name": ("str", True), "x_mm": ("num", True), "y_mm": ("num", True),
-        "width_mm": ("num", True), "depth_mm": ("num", True)}),
+        "width_mm": ("num", True), "depth_mm": ("num", True), "sheet": ("str", False),
+        "sheet_mm": ("num", False), "cover": ("bool", False)}),
+    # A plate's ``tray`` is set only on the plates generated from a sheet tray: no file key.
+    "plate": Table(Plate, "plates", {
+        "name": ("str", True), "x_mm": ("num", True), "y_mm": ("num", True),
+        "width_mm": ("num", True), "height_mm": ("num", True), "material": ("str", False),
+        "mu_r": ("num", False), "sigma_s_per_m": ("num", False), "body": ("str", False)}),
     "circuit": Table(Circuit, "circuits", {
         "name": ("str", True), "system": ("str", True), "current_a": ("num", False),
         "angle_deg": ("num", False), "harmonics": ("harm", False),

@@ -62,6 +62,8 @@ def dumps_layout(layout: Layout) -> str:
     for kind, table in TABLES.items():
         defaults = _defaults(table.model)
         for obj in getattr(layout, table.attr):
+            if kind == "plate" and obj.tray is not None:
+                continue  # generated from a sheet tray: its tray's keys write it
             out += ["", f"[[{kind}]]"]
             for key, (typ, required) in table.keys.items():
                 name = table.field_of(key)
