@@ -32,6 +32,7 @@ from trayadvisor.engine.currents import (
     conductor_currents,
     layout_sources,
     total_field,
+    unit_fields,
 )
 from trayadvisor.engine.field import (
     FarField,
@@ -94,4 +95,5 @@ __all__ = [
     "stray_uT",
     "total_field",
     "unit_field",
+    "unit_fields",
 ]

@@ -23,7 +23,7 @@ from typing import Protocol
 
 import numpy as np
 
-from trayadvisor.engine.field import phasor_field
+from trayadvisor.engine.field import phasor_field, unit_field
 from trayadvisor.engine.units import MM
 from trayadvisor.model import PHASE_ANGLE_DEG, Layout
 
@@ -51,6 +51,20 @@ class Reaction(Protocol):
         """(H, p, n) complex vector potential added at point i (default: the conductors,
         symmetrised) per ampere in conductor j, V·s/m."""
         ...
+
+
+def unit_fields(xy_m: np.ndarray, radius_m: np.ndarray, pts_m: np.ndarray,
+                reaction: Reaction | None = None, frequency_hz: np.ndarray | None = None
+                ) -> np.ndarray:
+    """Field per ampere of each conductor at each point: (n, m, 2) real in free space
+    (:func:`~trayadvisor.engine.unit_field`), (H, n, m, 2) complex with a reaction (one table
+    per frequency component: plates make the field frequency-dependent)."""
+    g = unit_field(xy_m, radius_m, pts_m)
+    if reaction is None:
+        return g
+    if frequency_hz is None:
+        raise ValueError("a reaction needs the frequency of every current row")
+    return g[None] + reaction.unit_fields(xy_m, frequency_hz, pts_m)
 
 
 def total_field(src_xy: np.ndarray, radius: np.ndarray, currents: np.ndarray,

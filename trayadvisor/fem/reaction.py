@@ -28,8 +28,9 @@ from trayadvisor.fem.materials import PLATE_MATERIALS
 from trayadvisor.fem.solver import Plate, PlateSolver
 from trayadvisor.model import Layout
 
-#: Solvers kept (each holds a factorisation: tens of MB).
-_SOLVERS_KEPT = 6
+#: Solvers kept (each holds a factorisation: tens of MB): enough for the fundamental,
+#: DC and several harmonics of one layout.
+_SOLVERS_KEPT = 10
 #: Memory for cached unit reaction potentials per solver, bytes.
 _UNIT_BYTES = 96 * 2**20
 #: Reaction potentials of whole arrangements kept (the curve, places and maps of one
@@ -39,6 +40,7 @@ _COMBINED_KEPT = 32
 _EXTENT_GRID_M = 0.05
 
 _solvers: OrderedDict[tuple, PlateSolver] = OrderedDict()
+_reactions: OrderedDict[tuple, PlateReaction] = OrderedDict()
 
 
 def material_data(material: str | None, mu_r: float | None, sigma: float | None
@@ -65,10 +67,12 @@ def solver_plates(layout: Layout) -> list[Plate]:
 
 
 def meshed_extent_m(layout: Layout) -> tuple[float, float, float, float]:
-    """Trays, plates and conductors, m, rounded outwards to the extent grid."""
+    """Trays and plates (the conductors too when there is no tray), m, rounded outwards to
+    the extent grid: moving conductors inside their trays keeps it, so the solvers stay."""
     boxes = [t.outer_bounds for t in layout.trays] + [p.bounds for p in layout.all_plates()]
-    boxes += [(c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
-               c.y_mm + c.radius_mm) for c in layout.conductors]
+    if not layout.trays:
+        boxes += [(c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
+                   c.y_mm + c.radius_mm) for c in layout.conductors]
     g = _EXTENT_GRID_M
     return (math.floor(min(b[0] for b in boxes) * MM / g) * g,
             math.floor(min(b[1] for b in boxes) * MM / g) * g,
@@ -203,7 +207,17 @@ class PlateReaction:
 
 
 def layout_reaction(layout: Layout) -> PlateReaction | None:
-    """The plates of ``layout`` as a reaction, or None when it has none."""
+    """The plates of ``layout`` as a reaction, or None when it has none (the same object
+    for the same plates and extent, so its cached potentials serve every later call)."""
     if not layout.all_plates():
         return None
-    return PlateReaction(solver_plates(layout), meshed_extent_m(layout))
+    key = (tuple(solver_plates(layout)), meshed_extent_m(layout))
+    reaction = _reactions.get(key)
+    if reaction is None:
+        reaction = PlateReaction(*key)
+        _reactions[key] = reaction
+        while len(_reactions) > _SOLVERS_KEPT:
+            _reactions.popitem(last=False)
+    else:
+        _reactions.move_to_end(key)
+    return reaction

@@ -203,14 +203,58 @@ class PlateSolver:
 
         return np.asarray(asm(row, pb, sig=sig))
 
+    def _unit_loads(self, xy: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Loads of unit sources at ``xy`` (k, 2): (N, k) dof rows and (bodies, k) floating
+        rows, by the plates' quadrature in one array expression per plate (the weighted
+        path of :meth:`reaction` assembles the same forms with scikit-fem)."""
+        nu0 = 1.0 / MU0
+        k = xy.shape[0]
+        load = np.zeros((self._n, k), dtype=complex)
+        body_rows = np.zeros((len(self._floating), k), dtype=complex)
+        for idx, (pl, pb) in enumerate(zip(self.plates, self.plate_basis, strict=True)):
+            dnu = nu0 / pl.mu_r - nu0
+            eddy = self.omega > 0.0 and pl.sigma > 0.0
+            if dnu == 0.0 and not eddy:
+                continue
+            x = np.asarray(pb.global_coordinates())  # (2, E, Q)
+            dx = pb.dx  # (E, Q)
+            dofs = pb.element_dofs  # (Nb, E)
+            part = np.zeros((dofs.shape[0], dofs.shape[1], k), dtype=complex)
+            if dnu != 0.0:
+                gx, gy = free_gradient(xy, x)  # (k, E, Q)
+                for i in range(dofs.shape[0]):
+                    g = pb.basis[i][0].grad  # (2, E, Q)
+                    part[i] += np.einsum("keq,eq->ek", gx * g[0] + gy * g[1],
+                                         -dnu * dx)
+            if eddy:
+                a0 = free_potential(xy, x)  # (k, E, Q)
+                f_sig = np.empty((dofs.shape[0], dofs.shape[1], k))
+                for i in range(dofs.shape[0]):
+                    f_sig[i] = np.einsum("keq,eq->ek", a0, pl.sigma * np.asarray(pb.basis[i][0])
+                                         * dx)
+                part -= 1j * self.omega * f_sig
+                body = self._body_of[idx]
+                if body in self._floating:
+                    body_rows[self._floating.index(body)] += (
+                        1j * self.omega * f_sig.sum(axis=(0, 1)))
+            np.add.at(load, dofs.reshape(-1), part.reshape(-1, k))
+        return load, body_rows
+
     def reaction(self, xy_src_m: np.ndarray, weights: np.ndarray | None = None) -> np.ndarray:
         """A_r at every dof, (N, c): one column per source of 1 A, or (with ``weights``, a
         real (k, c) array) one column per weighted combination of the sources, assembled
-        as one load (superposition check)."""
+        as one load with scikit-fem's forms (an independent path: superposition check)."""
         from skfem import LinearForm, asm
         from skfem.helpers import grad
 
         xy = np.asarray(xy_src_m, dtype=float).reshape(-1, 2)
+        if weights is None:
+            load, body_rows = self._unit_loads(xy)
+            sol = self._lu.solve(np.vstack([load[self._interior], body_rows]))
+            out = np.zeros((self._n, xy.shape[0]), dtype=complex)
+            out[self._interior] = sol[:self._interior.size]
+            self._c = sol[self._interior.size:]
+            return out
         wts = np.eye(xy.shape[0]) if weights is None else np.asarray(weights, float).reshape(
             xy.shape[0], -1)
         cols = range(xy.shape[0]) if weights is None else range(wts.shape[1])
@@ -280,8 +324,8 @@ class PlateSolver:
         @Functional
         def joule(w):
             a0 = np.tensordot(cur, free_potential(xy, w.x), axes=1) - w.cp
-            re = w.ar_re.value + a0.real
-            im = w.ar_im.value + a0.imag
+            re = np.asarray(w.ar_re) + a0.real
+            im = np.asarray(w.ar_im) + a0.imag
             return self.omega ** 2 * w.sig * (re * re + im * im)
 
         for k, (pl, pb) in enumerate(zip(self.plates, self.plate_basis, strict=True)):

@@ -19,7 +19,8 @@ import numpy as np
 from trayadvisor.analysis import FieldSummary
 from trayadvisor.engine import offset_points
 from trayadvisor.engine.units import MM
-from trayadvisor.model import Layout
+from trayadvisor.fem import PLATE_MATERIALS
+from trayadvisor.model import Layout, Plate
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -60,29 +61,98 @@ def to_svg(fig: Figure, prefix: str) -> str:
     return _HREF.sub(lambda m: f'{m.group(1)}="#{prefix}-{m.group(2)}"', text)
 
 
+#: How plates are drawn: (face colour, hatch) by material; plates given by μr and σ alone
+#: are drawn as steel when magnetic (μr > 1), else as the last entry.
+_PLATE_LOOKS: dict[str, tuple[str, str | None]] = {
+    "steel": ("#6f7c88", "xxxx"), "stainless": ("#b4bcc4", "\\\\\\"),
+    "aluminium": ("#d9dde2", "...."), "copper": ("#c98a5a", None),
+    "": ("#c8c0a8", "++"),
+}
+
+
+def _literal(text: str) -> str:
+    """Text from a file shown as it is: matplotlib reads a pair of ``$`` as mathematics,
+    so every ``$`` is escaped; a legend label that starts with ``_`` (which a legend
+    leaves out) gets a zero-width space in front."""
+    text = str(text).replace("$", r"\$")
+    return "\u200b" + text if text.startswith("_") else text
+
+
 def _circuit_colours(layout: Layout) -> dict[str, str]:
     return {c.name: _PALETTE[i % len(_PALETTE)] for i, c in enumerate(layout.circuits)}
 
 
-def section_pads(layout: Layout) -> tuple[float, float]:
-    """Margins (mm) around the envelope in cross-section drawings: x, y."""
+def plate_label(plate: Plate) -> str:
+    """The legend words of a plate: ``plate (steel)``, ``plate (steel, μr 500)``,
+    ``plate (μr 1, σ 3.5e+07 S/m)``."""
+    parts = [plate.material] if plate.material else []
+    if plate.mu_r is not None:
+        parts.append(f"μr {plate.mu_r:g}")
+    if plate.sigma_s_per_m is not None:
+        parts.append(f"σ {plate.sigma_s_per_m:g} S/m")
+    return f"plate ({', '.join(parts)})" if parts else "plate"
+
+
+def _plate_look(plate: Plate) -> tuple[str, str | None]:
+    if plate.material in _PLATE_LOOKS:
+        return _PLATE_LOOKS[plate.material]
+    mu_r = plate.mu_r if plate.mu_r is not None else PLATE_MATERIALS.get(
+        plate.material or "", (1.0, 0.0))[0]
+    return _PLATE_LOOKS["steel"] if mu_r > 1.0 else _PLATE_LOOKS[""]
+
+
+def draw_plates(ax: Axes, layout: Layout, alpha: float = 1.0, zorder: float = 1.0,
+                label: bool = True) -> None:
+    """Every plate (``[[plate]]`` entries and sheet trays' metal) as a filled, hatched
+    rectangle to scale, one legend entry per kind (``plate (steel)``); a dark edge keeps a
+    2 mm sheet visible at report scale."""
+    from matplotlib.patches import Rectangle
+
+    seen: set[str] = set()
+    for p in layout.all_plates():
+        face, hatch = _plate_look(p)
+        words = plate_label(p)
+        ax.add_patch(Rectangle((p.x_mm, p.y_mm), p.width_mm, p.height_mm, facecolor=face,
+                               edgecolor="0.15", linewidth=0.6, hatch=hatch, alpha=alpha,
+                               zorder=zorder,
+                               label=_literal(words) if label and words not in seen
+                               else None))
+        seen.add(words)
+
+
+def drawing_bounds(layout: Layout) -> tuple[float, float, float, float]:
+    """What a cross-section drawing shows (mm): the envelope and every plate."""
     x0, y0, x1, y1 = layout.envelope_mm()
+    plates = layout.all_plates()
+    if plates and not (layout.trays or layout.conductors):
+        x0, y0, x1, y1 = plates[0].bounds
+    for p in plates:
+        px0, py0, px1, py1 = p.bounds
+        x0, y0, x1, y1 = min(x0, px0), min(y0, py0), max(x1, px1), max(y1, py1)
+    return x0, y0, x1, y1
+
+
+def section_pads(layout: Layout) -> tuple[float, float]:
+    """Margins (mm) around the drawing (envelope and plates) in cross-sections: x, y."""
+    x0, y0, x1, y1 = drawing_bounds(layout)
     w, h = max(x1 - x0, 1.0), max(y1 - y0, 1.0)
     return 0.03 * max(w, h), 0.15 * h + 0.02 * max(w, h)
 
 
 def _drawn_aspect(layout: Layout) -> float:
     """Height / width of a cross-section drawing with its margins."""
-    x0, y0, x1, y1 = layout.envelope_mm()
+    x0, y0, x1, y1 = drawing_bounds(layout)
     px, py = section_pads(layout)
     return (y1 - y0 + 2 * py) / max(x1 - x0 + 2 * px, 1.0)
 
 
 def draw_section(ax: Axes, layout: Layout, *, width_pt: float, labels: bool = True,
                  legend: bool = True) -> None:
-    """Trays and conductors to scale (mm); conductors coloured by circuit, phase written in.
+    """Trays, plates and conductors to scale (mm); conductors coloured by circuit, phase
+    written in; plates filled and hatched by material, under the conductors.
 
     ``width_pt`` is the axes' width in points, used to size the phase labels to the circles.
+    Names from the file are drawn literally (:func:`_literal`).
     """
     from matplotlib.patches import Circle, Rectangle
 
@@ -91,9 +161,10 @@ def draw_section(ax: Axes, layout: Layout, *, width_pt: float, labels: bool = Tr
         ax.add_patch(Rectangle((t.x_mm, t.y_mm), t.width_mm, t.depth_mm, fill=False,
                                edgecolor="0.35", linewidth=1.0))
         if labels:
-            ax.annotate(t.name, (t.x_mm, t.y_mm + t.depth_mm), xytext=(2, 2),
+            top = t.outer_bounds[3]
+            ax.annotate(_literal(t.name), (t.x_mm, top), xytext=(2, 2),
                         textcoords="offset points", fontsize=7, color="0.35")
-    x0, y0, x1, y1 = layout.envelope_mm()
+    x0, y0, x1, y1 = drawing_bounds(layout)
     px, py = section_pads(layout)
     pt_per_mm = width_pt / (x1 - x0 + 2 * px)
     seen: set[str] = set()
@@ -101,18 +172,19 @@ def draw_section(ax: Axes, layout: Layout, *, width_pt: float, labels: bool = Tr
         col = colours.get(c.circuit, "0.5")
         ax.add_patch(Circle((c.x_mm, c.y_mm), c.radius_mm, facecolor=col, edgecolor="black",
                             linewidth=0.5, alpha=0.85, hatch="///" if c.fixed else None,
-                            label=None if c.circuit in seen else c.circuit))
+                            label=None if c.circuit in seen else _literal(c.circuit)))
         seen.add(c.circuit)
         size = 0.5 * c.diameter_mm * pt_per_mm / max(1, len(c.phase) * 0.7)
         if labels and size >= 3.0:
-            ax.text(c.x_mm, c.y_mm, c.phase, ha="center", va="center", color="white",
+            ax.text(c.x_mm, c.y_mm, _literal(c.phase), ha="center", va="center", color="white",
                     fontsize=min(7.0, size), fontweight="bold")
+    draw_plates(ax, layout, zorder=0.8)  # under the trays and conductors, listed after them
     ax.set_xlim(x0 - px, x1 + px)
     ax.set_ylim(y0 - py, y1 + py)
     ax.set_aspect("equal")
-    if legend and seen:
+    if legend and (seen or layout.all_plates()):
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False,
-                  title="circuit (hatched: fixed)", title_fontsize=7)
+                  title="circuit (hatched: fixed)" if seen else None, title_fontsize=7)
 
 
 def section_svg(layout: Layout, prefix: str) -> str:
@@ -156,6 +228,7 @@ def contours_svg(layout: Layout, summary: FieldSummary, grid_uT: np.ndarray,
                         linewidths=0.8)
         ax.clabel(cs, fmt=lambda v: f"{v:g}", fontsize=6)
     ex0, ey0, ex1, ey1 = layout.envelope_mm()
+    draw_plates(ax, layout, alpha=0.75, zorder=1.0)
     ax.plot([ex0, ex1, ex1, ex0, ex0], [ey0, ey0, ey1, ey1, ey0], color="0.3", linewidth=0.8)
     for c in layout.conductors:
         ax.plot(c.x_mm, c.y_mm, marker="o", markersize=1.5, color="black")
@@ -171,14 +244,15 @@ def contours_svg(layout: Layout, summary: FieldSummary, grid_uT: np.ndarray,
     for ln in layout.lines:
         ax.plot([ln.x0_mm, ln.x1_mm], [ln.y0_mm, ln.y1_mm], color="0.2", linewidth=0.9,
                 linestyle=":")
-        ax.annotate(ln.name, (ln.x1_mm, ln.y1_mm), fontsize=6, color="0.2",
+        ax.annotate(_literal(ln.name), (ln.x1_mm, ln.y1_mm), fontsize=6, color="0.2",
                     xytext=(-2, 2), textcoords="offset points", ha="right")
     for p in layout.points:
         ax.plot(p.x_mm, p.y_mm, marker="s", markersize=3, color="0.2")
-        ax.annotate(p.name, (p.x_mm, p.y_mm), fontsize=6, color="0.2", xytext=(3, 3),
-                    textcoords="offset points")
-    ax.set_xlim(x0, x1)
-    ax.set_ylim(y0, y1)
+        ax.annotate(_literal(p.name), (p.x_mm, p.y_mm), fontsize=6, color="0.2",
+                    xytext=(3, 3), textcoords="offset points")
+    dx0, dy0, dx1, dy1 = drawing_bounds(layout)  # plates beyond the map stay in the picture
+    ax.set_xlim(min(x0, dx0), max(x1, dx1))
+    ax.set_ylim(min(y0, dy0), max(y1, dy1))
     ax.set_aspect("equal")
     ax.set_xlabel("x (mm)")
     ax.set_ylabel("y (mm)")
@@ -257,7 +331,8 @@ def distance_svg(distance_mm: np.ndarray, stray_uT: np.ndarray, summary: FieldSu
     top = max([hi * 3] + [2 * v for v in groups])
     bottom = min([max(lo / 3, 1e-6)] + [v / 2 for v in groups])
     for v, y in spread_labels(sorted(groups), math.log10(top / bottom) / 28):
-        ax.annotate(f"{' / '.join(groups[v])}  {_ut_text(v)} µT", (d_m[-1], y), xytext=(-2, 1),
+        ax.annotate(_literal(f"{' / '.join(groups[v])}  {_ut_text(v)} µT"), (d_m[-1], y),
+                    xytext=(-2, 1),
                     textcoords="offset points", ha="right", va="bottom", fontsize=6,
                     color="0.15")
     from matplotlib.ticker import FuncFormatter, NullFormatter
@@ -311,6 +386,6 @@ def options_svg(layouts: Sequence[tuple[str, Layout]], prefix: str) -> str:
     for i, (title, lay) in enumerate(layouts):
         ax = fig.add_subplot(rows, cols, i + 1)
         draw_section(ax, lay, width_pt=72 * 0.85 * width_in, labels=True, legend=False)
-        ax.set_title(title, fontsize=8, loc="left")
+        ax.set_title(_literal(title), fontsize=8, loc="left")
         ax.tick_params(labelsize=6)
     return to_svg(fig, prefix)

@@ -101,6 +101,8 @@ class Objective:
         """
         x0, _, x1, _ = layout.envelope_mm()
         axis = 0.5 * (x0 + x1)
+        if not _plates_mirror(layout, axis):
+            return None
         if self.kind == "contour":
             return axis
         pts = self.all_m / MM
@@ -189,6 +191,29 @@ def _limits_objective(layout: Layout, src: SourceArrays, d: float) -> Objective:
              + " at their places")
     return Objective("limits", None, label, all_m, all_m, d, all_w, all_w, "index",
                      None, tuple(judged))
+
+
+def without_points(obj: Objective, mask: np.ndarray) -> Objective:
+    """The objective with the search points under ``mask`` weighted 0 (e.g. points of the
+    curve inside a plate, where no figure is computed; the exact score skips them too)."""
+    mask = np.asarray(mask, dtype=bool).reshape(-1)
+    if not mask.any():
+        return obj
+    w = np.array(obj.search_w, dtype=float)  # (P, H): every objective sets it
+    w[mask] = 0.0
+    return replace(obj, search_w=w)
+
+
+def _plates_mirror(layout: Layout, axis: float) -> bool:
+    """Whether the plates map onto plates of the same data in the mirror about x = axis."""
+    def key(p, mirror: bool) -> tuple:  # noqa: ANN001
+        x0, y0, x1, y1 = p.bounds
+        if mirror:
+            x0, x1 = 2 * axis - x1, 2 * axis - x0
+        return (round(x0, 6), round(y0, 6), round(x1, 6), round(y1, 6), p.material,
+                p.mu_r, p.sigma_s_per_m)
+    plates = layout.all_plates()
+    return sorted(key(p, False) for p in plates) == sorted(key(p, True) for p in plates)
 
 
 def make_objective(layout: Layout, distance_mm: float, objective: str | None,

@@ -29,9 +29,10 @@ from trayadvisor.coupling import (
     imbalance_constraint,
     induced_loss_figure,
     induced_voltage_constraint,
+    plate_sources,
     solve_sharing,
 )
-from trayadvisor.engine import DEFAULT_DISTANCE_MM, SourceArrays, far_field, layout_sources
+from trayadvisor.engine import DEFAULT_DISTANCE_MM, SourceArrays, far_field
 from trayadvisor.engine.units import UT
 from trayadvisor.model import Layout
 from trayadvisor.ranking.build import build_space
@@ -39,7 +40,7 @@ from trayadvisor.ranking.errors import RankError
 from trayadvisor.ranking.exhaustive import exhaustive
 from trayadvisor.ranking.heuristic import run_heuristic
 from trayadvisor.ranking.local_search import run_local
-from trayadvisor.ranking.objective import Objective, make_objective
+from trayadvisor.ranking.objective import Objective, make_objective, without_points
 from trayadvisor.ranking.result import Constraint, RankOption, RankResult
 from trayadvisor.ranking.sketch import sketch_text
 from trayadvisor.ranking.slots import SLOT_RULES
@@ -232,8 +233,10 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
                        max_imbalance_pct=max_imbalance_pct,
                        max_induced_mV_per_m=max_induced_mV_per_m, currents=currents,
                        temperature_c=temperature_c)
-    src = layout_sources(layout)
+    src = plate_sources(layout)
     obj = make_objective(layout, float(distance_mm), objective, src)
+    if src.reaction is not None:  # no figure inside a plate's metal
+        obj = without_points(obj, src.reaction.inside(obj.search_m))
     induced = layout.has_induced_paths()
     constraints = _coupling_constraints(constraints, max_imbalance_pct, max_induced_mV_per_m,
                                         currents, temperature_c, coupling_figures, induced)
@@ -248,6 +251,9 @@ def rank_layout(layout: Layout, *, distance_mm: float = DEFAULT_DISTANCE_MM, top
     finite = any(not math.isinf(float(getattr(c, "limit", 0.0))) for c in constraints)
     shares = solve_sharing(layout, temperature_c) if solved else None
     conjugate = not finite and (shares is None or all(g.reactance_only for g in shares.groups))
+    # eddy currents make the plates' field complex per ampere: conjugation no longer maps
+    # one arrangement's field onto another's
+    conjugate = conjugate and not layout.all_plates()
     if shares is None and induced:
         notes.append("equal shares: no current is induced in screens or passive loops (the "
                      "options' loss figure is the solved one)")

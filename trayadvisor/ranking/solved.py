@@ -48,7 +48,7 @@ from trayadvisor.coupling import (
     sharing_plan,
     solve_plan,
 )
-from trayadvisor.engine import SourceArrays, unit_field
+from trayadvisor.engine import SourceArrays, unit_fields
 from trayadvisor.engine.units import K_LINE, MM
 from trayadvisor.model import Layout
 from trayadvisor.ranking.smallsolve import solve_small
@@ -195,15 +195,25 @@ def _impedance(m: _Model, space: Space) -> None:
     y = np.empty((h, s, s), dtype=complex)
     yc = np.empty((h, s), dtype=complex)
     i_k = src.currents[:, m.fixed_known]
+    # plates: their reaction potentials between the rows and from the known conductors
+    p_rows = p_known = None
+    if src.reaction is not None:
+        p_rows = src.reaction.potentials(m.xy_rows, src.frequency_hz)  # (H, S, S)
+        p_known = src.reaction.potentials(src.xy_m[m.fixed_known], src.frequency_hz,
+                                          m.xy_rows)  # (H, S, k)
     for k in range(h):
         w = plan.omega[k]
         z = -1j * w * K_LINE * lam
+        if p_rows is not None:
+            z = z + 1j * w * p_rows[k]
         z[np.arange(s), np.arange(s)] += r[k]
         try:
             y[k] = np.linalg.inv(z)
         except np.linalg.LinAlgError:
             return
         c = (-1j * w * K_LINE * lam_k) @ i_k[k]
+        if p_known is not None:
+            c = c + 1j * w * (p_known[k] @ i_k[k])
         yc[k] = y[k] @ c
     m.Y, m.yc, m.schur = y, yc, True
 
@@ -233,18 +243,22 @@ class SolvedTables(Tables):
         ``weights`` (P, H) (see :class:`~trayadvisor.ranking.tables.Tables`)."""
         m = self.model
         self.pts_m = pts
-        self.g_rows = unit_field(m.xy_rows, m.radius_rows, pts)  # (S, P, 2)
         src = m.plan.sources
+        # (S, P, 2) real, or (H, S, P, 2) complex with plates (a table per component)
+        self.g_rows = unit_fields(m.xy_rows, m.radius_rows, pts, src.reaction,
+                                  src.frequency_hz)
         h = m.plan.orders.size
         self.w_hp = (np.ones((h, pts.shape[0])) if weights is None
                      else np.asarray(weights, dtype=float).reshape(pts.shape[0], h).T.copy())
-        g_k = unit_field(src.xy_m[m.fixed_known], src.radius_m[m.fixed_known], pts)
-        self.b_known = (np.einsum("hk,kpc->hpc", src.currents[:, m.fixed_known], g_k)
+        g_k = unit_fields(src.xy_m[m.fixed_known], src.radius_m[m.fixed_known], pts,
+                          src.reaction, src.frequency_hz)
+        g_spec = "" if self.g_rows.ndim == 3 else "h"
+        self.b_known = (np.einsum(f"hk,{g_spec}kpc->hpc", src.currents[:, m.fixed_known], g_k)
                         * self.w_hp[:, :, None])
         if m.schur:  # B = Σ_g U_g (Eᵀ ay)_g + b0 (module notes)
-            self.ay = (np.einsum("hst,tpc->hspc", m.Y, self.g_rows, optimize=True)
+            self.ay = (np.einsum(f"hst,{g_spec}tpc->hspc", m.Y, self.g_rows, optimize=True)
                        * self.w_hp[:, None, :, None])
-            self.b0 = self.b_known - (np.einsum("hs,spc->hpc", m.yc, self.g_rows)
+            self.b0 = self.b_known - (np.einsum(f"hs,{g_spec}spc->hpc", m.yc, self.g_rows)
                                       * self.w_hp[:, :, None])
 
     # -- derived tables ----------------------------------------------------------------------
@@ -252,7 +266,7 @@ class SolvedTables(Tables):
         t = self._copy(self.V[:, :, idx], self.F[idx], self.expand)
         t.pts_m = self.pts_m[idx]
         t.w_hp = np.ascontiguousarray(self.w_hp[:, idx])
-        t.g_rows = None if self.g_rows is None else np.ascontiguousarray(self.g_rows[:, idx])
+        t.g_rows = None if self.g_rows is None else np.ascontiguousarray(self.g_rows[..., idx, :])
         t.b_known = np.ascontiguousarray(self.b_known[:, idx])
         if self.model.schur:
             t.ay = np.ascontiguousarray(self.ay[:, :, idx])
@@ -334,7 +348,8 @@ class SolvedTables(Tables):
                                                   self.b0)
             else:
                 cur = _full_currents(self.model, self.space, part)  # (n, H, S)
-                out[s:s + _CHUNK] = (np.einsum("nhs,spc->nhpc", cur, self.g_rows,
+                spec = "nhs,spc->nhpc" if self.g_rows.ndim == 3 else "nhs,hspc->nhpc"
+                out[s:s + _CHUNK] = (np.einsum(spec, cur, self.g_rows,
                                                optimize=True) * self.w_hp[None, :, :, None]
                                      + self.b_known[None])
         return out

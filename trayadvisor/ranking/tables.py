@@ -15,7 +15,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from trayadvisor.engine import SourceArrays, unit_field
+from trayadvisor.engine import SourceArrays, unit_fields
 from trayadvisor.engine.units import MM
 from trayadvisor.ranking.space import Space
 
@@ -24,11 +24,18 @@ _STAGE_POINTS = 48  # points of the first pass of :meth:`Tables.values_below`
 
 
 def _channels(g: np.ndarray, currents: np.ndarray) -> np.ndarray:
-    """(n, P, 2) unit field × (H, n) phasors → (n, P, 4H) real channels per source."""
-    re = currents.real.T[:, None, :, None] * g[:, :, None, :]  # (n, P, H, 2)
-    im = currents.imag.T[:, None, :, None] * g[:, :, None, :]
-    out = np.concatenate([re, im], axis=-1)  # (n, P, H, 4)
-    return out.reshape(g.shape[0], g.shape[1], -1)
+    """Unit fields × (H, n) phasors → (n, P, 4H) real channels per source.
+
+    ``g`` is (n, P, 2) real (free space) or (H, n, P, 2) complex (plates: one table per
+    component); the channels of component h are (Re Bx, Re By, Im Bx, Im By)."""
+    if g.ndim == 3:
+        re = currents.real.T[:, None, :, None] * g[:, :, None, :]  # (n, P, H, 2)
+        im = currents.imag.T[:, None, :, None] * g[:, :, None, :]
+        out = np.concatenate([re, im], axis=-1)  # (n, P, H, 4)
+        return out.reshape(g.shape[0], g.shape[1], -1)
+    b = currents[:, :, None, None] * g  # (H, n, P, 2) complex
+    out = np.concatenate([b.real, b.imag], axis=-1)  # (H, n, P, 4)
+    return np.ascontiguousarray(out.transpose(1, 2, 0, 3)).reshape(g.shape[1], g.shape[2], -1)
 
 
 class Tables:
@@ -57,14 +64,16 @@ class Tables:
                  keep_all: bool = False, weights: np.ndarray | None = None) -> None:
         pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
         pos = space.positions_mm * MM
-        g = unit_field(pos, 0.5 * space.diameters_mm * MM, pts)  # (J, P, 2)
+        # (J, P, 2), or (H, J, P, 2) complex with plates
+        g = unit_fields(pos, 0.5 * space.diameters_mm * MM, pts, src.reaction, src.frequency_hz)
         cur = space.kind_currents()  # (H, K)
         j, k = space.n_positions, space.n_kinds
         per_kind = [_channels(g, np.repeat(cur[:, [q]], j, axis=1)) for q in range(k)]
         v = np.stack(per_kind, axis=1) if per_kind else np.zeros((j, 0, pts.shape[0], 0))
         fixed = list(space.fixed)
         if fixed:
-            gf = unit_field(src.xy_m[fixed], src.radius_m[fixed], pts)
+            gf = unit_fields(src.xy_m[fixed], src.radius_m[fixed], pts, src.reaction,
+                             src.frequency_hz)
             f = _channels(gf, src.currents[:, fixed]).sum(axis=0)
         else:
             f = np.zeros((pts.shape[0], v.shape[-1] if v.size else 4 * cur.shape[0]))

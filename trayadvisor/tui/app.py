@@ -288,14 +288,15 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
 
 def known_binding_ids() -> set[str]:
     """Every binding id of the app, its views, the canvas and the dialogs (keymap check)."""
-    from trayadvisor.tui.screens import dialogs, forms, placeforms, placemenu
+    from trayadvisor.tui.screens import dialogs, forms, placeforms, placemenu, platemenu
     from trayadvisor.tui.widgets.canvas import SectionCanvas
 
     classes: list[type] = [TrayApp, SectionCanvas, HelpScreen, *(v.screen for v in VIEWS
                                                                   if isinstance(v.screen, type))]
     classes += [getattr(dialogs, n) for n in ("ConfirmDialog", "UnsavedDialog",
                                               "MessageDialog", "PathDialog")]
-    classes += [forms.FormScreen, placemenu.PlacesMenu, placeforms.PlacePicker]
+    classes += [forms.FormScreen, placemenu.PlacesMenu, placeforms.PlacePicker,
+                platemenu.PlatesMenu]
     ids = set()
     for cls in classes:
         for klass in cls.__mro__:

@@ -12,12 +12,17 @@ from dataclasses import replace
 
 import numpy as np
 
-from trayadvisor.model import PHASES, REQUIRED_PHASES, Circuit, Conductor, Layout, Tray
+from trayadvisor.model import PHASES, REQUIRED_PHASES, Circuit, Conductor, Layout, Plate, Tray
 
 #: The tray a new, empty layout starts with (mm).
 NEW_TRAY = Tray(name="T1", x_mm=0.0, y_mm=0.0, width_mm=600.0, depth_mm=100.0)
 #: Diameter of a new conductor when there is nothing to copy it from (mm).
 NEW_DIAMETER_MM = 25.0
+#: A proposed plate: a steel sheet this far below the drawing, this thick, reaching this far
+#: beyond it on each side (mm).
+NEW_PLATE_BELOW_MM = 250.0
+NEW_PLATE_MM = 2.0
+NEW_PLATE_OVERHANG_MM = 100.0
 
 
 def new_layout(title: str = "") -> Layout:
@@ -181,12 +186,14 @@ def add_tray(layout: Layout, tray: Tray) -> Layout:
 
 
 def replace_tray(layout: Layout, name: str, new: Tray) -> Layout:
-    """Replace a tray; a new name is carried to the conductors that name it."""
+    """Replace a tray; a new name is carried to the conductors that name it and to the
+    plates bonded to it (``body`` = the tray's name)."""
     trays = tuple(new if t.name == name else t for t in layout.trays)
-    cons = layout.conductors
+    cons, plates = layout.conductors, layout.plates
     if new.name != name:
         cons = tuple(replace(c, tray=new.name) if c.tray == name else c for c in cons)
-    return replace(layout, trays=trays, conductors=cons)
+        plates = tuple(replace(p, body=new.name) if p.body == name else p for p in plates)
+    return replace(layout, trays=trays, conductors=cons, plates=plates)
 
 
 def delete_tray(layout: Layout, name: str) -> Layout:
@@ -197,7 +204,7 @@ def delete_tray(layout: Layout, name: str) -> Layout:
 
 
 def new_tray(layout: Layout) -> Tray:
-    """A proposed tray to the right of the others, the size of the last one."""
+    """A proposed tray to the right of the others, the size and kind of the last one."""
     names = {t.name for t in layout.trays}
     k = len(layout.trays) + 1
     while f"T{k}" in names:
@@ -205,8 +212,10 @@ def new_tray(layout: Layout) -> Tray:
     if not layout.trays:
         return replace(NEW_TRAY, name=f"T{k}")
     last = layout.trays[-1]
-    x1 = max(t.x_mm + t.width_mm for t in layout.trays)
-    return Tray(f"T{k}", x1 + 100.0, last.y_mm, last.width_mm, last.depth_mm)
+    x1 = max(t.outer_bounds[2] for t in layout.trays)
+    # a tray like the last one (its size, sheet and cover), clear of the others' metal
+    gap = 100.0 + (last.sheet_mm if last.sheet else 0.0)
+    return replace(last, name=f"T{k}", x_mm=x1 + gap)
 
 
 def tray_of(layout: Layout, conductor: Conductor | None) -> Tray | None:
@@ -220,3 +229,78 @@ def tray_of(layout: Layout, conductor: Conductor | None) -> Tray | None:
             if x0 <= conductor.x_mm <= x1 and y0 <= conductor.y_mm <= y1:
                 return t
     return layout.trays[0] if layout.trays else None
+
+
+def tray_edit(layout: Layout, name: str, value: Tray | str) -> tuple[Layout, str]:
+    """The layout after a tray form's result (a Tray, or "delete"), and the undo label."""
+    if value == "delete":
+        return delete_tray(layout, name), f"delete tray {name}"
+    assert isinstance(value, Tray)
+    return replace_tray(layout, name, value), f"edit tray {value.name}"
+
+
+# -- plates ---------------------------------------------------------------------------------
+def plate_names(layout: Layout) -> set[str]:
+    """Every plate name in use: the ``[[plate]]`` entries and the sheet trays' parts."""
+    return {p.name for p in layout.all_plates()}
+
+
+def add_plate(layout: Layout, plate: Plate) -> Layout:
+    return replace(layout, plates=(*layout.plates, plate))
+
+
+def replace_plate(layout: Layout, name: str, new: Plate) -> Layout:
+    """Put ``new`` where the plate called ``name`` was. When a plate that is its own body
+    is renamed, the plates bonded to it (``body`` = its name) follow the new name."""
+    old = next(p for p in layout.plates if p.name == name)
+    plates = tuple(new if p.name == name else p for p in layout.plates)
+    if new.name != name and old.body is None:
+        plates = tuple(replace(p, body=new.name) if p.body == name and p is not new else p
+                       for p in plates)
+    return replace(layout, plates=plates)
+
+
+def delete_plate(layout: Layout, name: str) -> Layout:
+    return replace(layout, plates=tuple(p for p in layout.plates if p.name != name))
+
+
+def _clear_of_places(layout: Layout, box: tuple[float, float, float, float]) -> bool:
+    """True when no area, point or line (its bounding box) reaches into ``box``."""
+    x0, y0, x1, y1 = box
+    boxes = [(a.x0_mm, a.y0_mm, a.x1_mm, a.y1_mm) for a in layout.areas]
+    boxes += [(p.x_mm, p.y_mm, p.x_mm, p.y_mm) for p in layout.points]
+    boxes += [(min(ln.x0_mm, ln.x1_mm), min(ln.y0_mm, ln.y1_mm), max(ln.x0_mm, ln.x1_mm),
+               max(ln.y0_mm, ln.y1_mm)) for ln in layout.lines]
+    return all(b[2] <= x0 or b[0] >= x1 or b[3] <= y0 or b[1] >= y1 for b in boxes)
+
+
+def new_plate(layout: Layout) -> Plate:
+    """A proposed plate: a 2 mm steel sheet 250 mm below everything drawn (above it when an
+    observation place is in the way), 100 mm wider on each side."""
+    if layout.trays or layout.conductors or layout.plates:
+        boxes = [p.bounds for p in layout.all_plates()]
+        if layout.trays or layout.conductors:
+            boxes.append(layout.envelope_mm())
+        x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
+        x1, y1 = max(b[2] for b in boxes), max(b[3] for b in boxes)
+    else:
+        x0, y0, x1, y1 = NEW_TRAY.bounds
+    px0 = round(x0 - NEW_PLATE_OVERHANG_MM, 3)
+    width = round(x1 - x0 + 2 * NEW_PLATE_OVERHANG_MM, 3)
+    below = round(y0 - NEW_PLATE_BELOW_MM - NEW_PLATE_MM, 3)
+    above = round(y1 + NEW_PLATE_BELOW_MM, 3)
+    y = next((v for v in (below, above)
+              if _clear_of_places(layout, (px0, v, px0 + width, v + NEW_PLATE_MM))), below)
+    return Plate(unique_name("plate", plate_names(layout)), px0, y, width, NEW_PLATE_MM,
+                 material="steel")
+
+
+def plate_edit(layout: Layout, name: str | None, value: Plate | str) -> tuple[Layout, str]:
+    """The layout after a plate form's result, and the undo label: a new plate (``name``
+    None), a changed one, or "delete"."""
+    if value == "delete":
+        return delete_plate(layout, str(name)), f"delete plate {name}"
+    assert isinstance(value, Plate)
+    if name is None:
+        return add_plate(layout, value), f"add plate {value.name}"
+    return replace_plate(layout, name, value), f"edit plate {value.name}"

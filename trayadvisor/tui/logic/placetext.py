@@ -15,7 +15,7 @@ from collections.abc import Sequence
 from trayadvisor.analysis import FieldSummary
 from trayadvisor.limits import LIBRARY, LibraryLimit
 from trayadvisor.model import Layout
-from trayadvisor.output import fmt_uT
+from trayadvisor.output import fmt_uT, plain
 from trayadvisor.tui.logic.couplingtext import Line, g3
 from trayadvisor.tui.logic.settings import limit_kind
 
@@ -120,21 +120,23 @@ def _mm(v: float) -> str:
 def menu_rows(layout: Layout) -> list[tuple[str, str]]:
     """(option id, text) of the places menu: title and frequency, every point, line, area
     and limit, then the rows that add one. Option ids are ``kind:name`` (``add:kind``)."""
-    title = layout.title or "(no title)"
+    title = plain(layout.title) or "(no title)"
     earth = ("" if layout.earth_y_mm is None
              else f" · earth plane y {layout.earth_y_mm:g} mm")
     out = [("layout:", f"Title and frequency: {title} · {layout.frequency_hz:g} Hz{earth}")]
-    out += [(f"point:{p.name}", f"point {p.name}  x {_mm(p.x_mm)}, y {_mm(p.y_mm)} mm")
+    out += [(f"point:{p.name}", f"point {plain(p.name)}  x {_mm(p.x_mm)}, y {_mm(p.y_mm)} mm")
             for p in layout.points]
-    out += [(f"line:{ln.name}", f"line  {ln.name}  ({_mm(ln.x0_mm)}, {_mm(ln.y0_mm)}) → "
-             f"({_mm(ln.x1_mm)}, {_mm(ln.y1_mm)}) mm") for ln in layout.lines]
-    out += [(f"area:{a.name}", f"area  {a.name}  ({_mm(a.x0_mm)}, {_mm(a.y0_mm)}) → "
+    out += [(f"line:{ln.name}", f"line  {plain(ln.name)}  ({_mm(ln.x0_mm)}, "
+             f"{_mm(ln.y0_mm)}) → ({_mm(ln.x1_mm)}, {_mm(ln.y1_mm)}) mm")
+            for ln in layout.lines]
+    out += [(f"area:{a.name}", f"area  {plain(a.name)}  ({_mm(a.x0_mm)}, {_mm(a.y0_mm)}) → "
              f"({_mm(a.x1_mm)}, {_mm(a.y1_mm)}) mm") for a in layout.areas]
     for lim in layout.limits:
         level = (f"{fmt_uT(lim.value_uT)} µT" if lim.value_uT is not None
-                 else str(lim.library))
-        where = f"at {', '.join(lim.places)}" if lim.places else "on the curve at d"
-        out.append((f"limit:{lim.name}", f"limit {lim.name}  {level} {limit_kind(lim)}"
+                 else plain(str(lim.library)))
+        where = (f"at {', '.join(plain(n) for n in lim.places)}" if lim.places
+                 else "on the curve at d")
+        out.append((f"limit:{lim.name}", f"limit {plain(lim.name)}  {level} {limit_kind(lim)}"
                     f" · {where}"))
     out += [(f"add:{k}", f"+ add {'an' if k == 'area' else 'a'} {k}")
             for k in ("point", "line", "area", "limit")]

@@ -9,8 +9,12 @@ Style keys (hashable tuples):
 ``("px", top, bottom)`` half block with palette colours; ``("shade", band)``;
 ``("iso", digit)``; ``("tray", bg)``; ``("dot", bg)``; ``("peak", bg)``;
 ``("place", bg)`` observation points, lines, areas and their names;
+``("plate", magnetic)`` a plate's fill and name (``magnetic``: steel, else another metal);
 ``("cond", circuit_index, emphasis, on_map)`` with emphasis 0 plain, 1 same circuit as the
 selection, 2 selected; ``("note",)``; ``None`` blank. ``bg`` is a palette index or None.
+
+Names from the file are drawn with :func:`trayadvisor.output.plain` (no control
+characters); the canvas writes plain segments, never markup.
 """
 
 from __future__ import annotations
@@ -23,7 +27,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from trayadvisor.model import Layout
+from trayadvisor.output import plain
 from trayadvisor.tui.logic.mapscale import SHADES, MapScale, iso_digits
+from trayadvisor.tui.logic.platetext import is_magnetic, plate_glyph
 from trayadvisor.tui.logic.viewport import Bounds, Viewport
 
 #: One glyph per phase label (the format's phases), so phases read without colour.
@@ -42,11 +48,17 @@ Cell = tuple[str, Key]
 
 
 def drawing_bounds(layout: Layout) -> Bounds:
-    """What "fit" shows: the trays and conductors (a 1 m square round a lone point)."""
+    """What "fit" shows: the trays, conductors and plates (a 1 m square round a lone
+    point)."""
     x0, y0, x1, y1 = layout.envelope_mm()
+    if not (layout.trays or layout.conductors) and layout.plates:
+        x0, y0, x1, y1 = layout.plates[0].bounds
     for c in layout.conductors:
         x0, y0 = min(x0, c.x_mm - c.radius_mm), min(y0, c.y_mm - c.radius_mm)
         x1, y1 = max(x1, c.x_mm + c.radius_mm), max(y1, c.y_mm + c.radius_mm)
+    for p in layout.all_plates():
+        px0, py0, px1, py1 = p.bounds
+        x0, y0, x1, y1 = min(x0, px0), min(y0, py0), max(x1, px1), max(y1, py1)
     if x1 - x0 < 1 and y1 - y0 < 1:
         return (x0 - 500, y0 - 500, x1 + 500, y1 + 500)
     return (x0, y0, x1, y1)
@@ -148,6 +160,10 @@ def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
     places : bool
         Draw the layout's observation points (``◆`` and the name), lines (dashes) and areas
         (rounded dashed outlines, the name on the top edge), under trays and conductors.
+
+    Plates (:meth:`trayadvisor.model.Layout.all_plates`) are filled rectangles over the
+    trays' outlines (a sheet tray's walls are plates) and under the tray names, the peak
+    and the conductors: ``#`` steel, ``=`` another metal, at least one cell thick.
     """
     cols, nrows = vp.cols, vp.rows
     if fmap is not None:
@@ -183,8 +199,13 @@ def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
             put(c1, r, "│", "tray")
         for c, r, ch in ((c0, r0, "┌"), (c1, r0, "┐"), (c0, r1, "└"), (c1, r1, "┘")):
             put(c, r, ch, "tray")
-        if c1 - c0 >= len(t.name) + 3:
-            for k, ch in enumerate(t.name):
+    _draw_plates(layout, vp, rows)
+    for t in layout.trays:  # names last: a sheet tray's cover does not hide its name
+        name = plain(t.name)
+        c0, c1 = vp.col_of(t.x_mm), vp.col_of(t.x_mm + t.width_mm)
+        if c1 - c0 >= len(name) + 3:
+            r0 = vp.row_of(t.y_mm + t.depth_mm)
+            for k, ch in enumerate(name):
                 put(c0 + 1 + k, r0, ch, "tray")
     if peak_mm is not None:
         put(*vp.cell_of(*peak_mm), "×", "peak")
@@ -199,6 +220,44 @@ def build_scene(layout: Layout, vp: Viewport, selected: str | None = None,
             for k, ch in enumerate(note):
                 rows[0][cols - len(note) + k] = (ch, ("note",))
     return Scene(rows, hidden)
+
+
+def plate_cells(vp: Viewport, bounds: Bounds) -> tuple[int, int, int, int]:
+    """(c0, r0, c1, r1): the cells a rectangle overlaps, inclusive, unclipped; a plate
+    thinner than a cell (or a pixel) still gets one."""
+    x0, y0, x1, y1 = bounds
+    wx0, _, _, wy1 = vp.bounds_mm
+    s = vp.mm_per_col
+    c0 = math.floor((x0 - wx0) / s)
+    c1 = max(c0, math.ceil((x1 - wx0) / s) - 1)
+    p0 = math.floor((wy1 - y1) / s)
+    p1 = max(p0, math.ceil((wy1 - y0) / s) - 1)
+    return c0, p0 // 2, c1, p1 // 2
+
+
+def _draw_plates(layout: Layout, vp: Viewport, rows: list[list[Cell]]) -> None:
+    """Every plate (the ``[[plate]]`` entries and the sheet trays' metal) filled with its
+    glyph, clipped to the window; a ``[[plate]]`` wide enough shows its name inside."""
+    cols, nrows = vp.cols, vp.rows
+    for p in layout.all_plates():
+        c0, r0, c1, r1 = plate_cells(vp, p.bounds)
+        if c1 < 0 or c0 >= cols or r1 < 0 or r0 >= nrows:
+            continue
+        key = ("plate", is_magnetic(p))
+        cell = (plate_glyph(p), key)
+        for r in range(max(r0, 0), min(r1, nrows - 1) + 1):
+            row = rows[r]
+            for c in range(max(c0, 0), min(c1, cols - 1) + 1):
+                row[c] = cell
+        if p.tray is not None:
+            continue
+        name = plain(p.name)
+        a, b = max(c0, 0), min(c1, cols - 1)
+        r = min(max((r0 + r1) // 2, 0), nrows - 1)
+        if b - a + 1 >= len(name) + 2:
+            start = a + (b - a + 1 - len(name)) // 2
+            for k, ch in enumerate(name):
+                rows[r][start + k] = (ch, key)
 
 
 def _place_conductors(layout: Layout, vp: Viewport, selected: str | None,
@@ -297,8 +356,8 @@ def _draw_places(layout: Layout, vp: Viewport, put: Callable[[int, int, str, str
         for c, r, k in ((c0, r0, "tl"), (c1, r0, "tr"), (c0, r1, "bl"), (c1, r1, "br")):
             put(c, r, AREA_GLYPHS[k], "place")
         start = max(c0, 0) + 1
-        if min(c1, cols) - start >= len(a.name) + 1:
-            _label(put, start, max(r0, 0), a.name, cols)
+        if min(c1, cols) - start >= len(plain(a.name)) + 1:
+            _label(put, start, max(r0, 0), plain(a.name), cols)
     for ln in layout.lines:
         p0, p1 = (ln.x0_mm, ln.y0_mm), (ln.x1_mm, ln.y1_mm)
         span = _clip(p0, p1, vp.bounds_mm)
@@ -324,9 +383,9 @@ def _draw_places(layout: Layout, vp: Viewport, put: Callable[[int, int, str, str
                 put(c, r, glyph, "place")
                 first = first or (c, r)
         if first is not None:
-            _label(put, first[0] + 1, first[1], ln.name, cols)
+            _label(put, first[0] + 1, first[1], plain(ln.name), cols)
     for p in layout.points:
         c, r = vp.cell_of(p.x_mm, p.y_mm)
         if 0 <= c < cols and 0 <= r < nrows:
             put(c, r, POINT_GLYPH, "place")
-            _label(put, c + 1, r, p.name, cols)
+            _label(put, c + 1, r, plain(p.name), cols)

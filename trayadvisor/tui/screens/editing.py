@@ -14,15 +14,17 @@ from trayadvisor.tui.logic.scene import drawing_bounds
 from trayadvisor.tui.screens.base import WorkScreen
 from trayadvisor.tui.screens.itemforms import CircuitForm, ConductorForm, TrayForm
 from trayadvisor.tui.screens.placemenu import PlaceEditing
+from trayadvisor.tui.screens.platemenu import PlateEditing
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
 
 #: A new circuit's defaults when the user adds one.
 _NEW_CIRCUIT = Circuit(name="C1", system="ac3", current_a=100.0)
 
 
-class EditingScreen(PlaceEditing, WorkScreen):
+class EditingScreen(PlaceEditing, PlateEditing, WorkScreen):
     """A view with the cross-section canvas and the editing keys (``p``: the places menu,
-    :mod:`trayadvisor.tui.screens.placemenu`)."""
+    :mod:`trayadvisor.tui.screens.placemenu`; ``P``: the plates menu,
+    :mod:`trayadvisor.tui.screens.platemenu`)."""
 
     BINDINGS = [
         Binding("a", "add", "Add", id="edit.add",
@@ -62,6 +64,8 @@ class EditingScreen(PlaceEditing, WorkScreen):
                 tooltip="pan down"),
         Binding("p", "places", "Places", id="edit.places",
                 tooltip="title, frequency, points, lines, areas and limits (menu)"),
+        Binding("P", "plates", "Plates", show=False, id="edit.plates",
+                tooltip="plates and sheet trays: add, edit, delete (menu)"),
         Binding("d", "settings", "Distance", id="settings.open",
                 tooltip="distance d, limit, move step, map style"),
     ]
@@ -76,7 +80,7 @@ class EditingScreen(PlaceEditing, WorkScreen):
                              peak_mm=s.max_at_mm if s is not None else None)
 
     def fit_bounds(self) -> tuple[float, float, float, float]:
-        """What "fit" (key 0) shows: the trays and conductors."""
+        """What "fit" (key 0) shows: the trays, conductors and plates."""
         return drawing_bounds(self.tapp.document.layout)
 
     _serial = -1  #: the app's document serial this view last drew
@@ -170,7 +174,7 @@ class EditingScreen(PlaceEditing, WorkScreen):
         self.edit_item("conductor", c.name)
 
     def edit_item(self, kind: str, name: str) -> None:
-        """Open the form for a conductor, circuit or tray by name."""
+        """Open the form for a conductor, circuit, tray or plate by name."""
         lay = self.tapp.document.layout
         if kind == "conductor":
             c = lay.conductors[lay.conductor_index(name)]
@@ -182,6 +186,8 @@ class EditingScreen(PlaceEditing, WorkScreen):
         elif kind == "tray":
             tray = next(t for t in lay.trays if t.name == name)
             self.app.push_screen(TrayForm(lay, tray), lambda new: self._tray_edited(name, new))
+        elif kind == "plate":
+            self.edit_plate(name)
 
     def _conductor_edited(self, old: str, new: Conductor | None) -> None:
         if new is not None:
@@ -239,8 +245,5 @@ class EditingScreen(PlaceEditing, WorkScreen):
         self.app.push_screen(TrayForm(lay, edits.new_tray(lay), new=True), done)
 
     def _tray_edited(self, old: str, new: Tray | str | None) -> None:
-        lay = self.tapp.document.layout
-        if new == "delete":
-            self.tapp.apply_edit(edits.delete_tray(lay, old), f"delete tray {old}")
-        elif isinstance(new, Tray):
-            self.tapp.apply_edit(edits.replace_tray(lay, old, new), f"edit tray {new.name}")
+        if new is not None:
+            self.tapp.apply_edit(*edits.tray_edit(self.tapp.document.layout, old, new))

@@ -103,7 +103,8 @@ class FieldScreen(EditingScreen):
         self.query_one(FieldReadout).show(app.summary, lim, app.figure_for(lim),
                                           app.results_pending(),
                                           app.document.layout.frequency_hz)
-        self.query_one(MapLegend).show(self.scale(), app.settings.map_style)
+        self.query_one(MapLegend).show(self.scale(), app.settings.map_style,
+                                       plates=bool(app.document.layout.all_plates()))
         self.query_one(PlacesPanel).show(place_lines(app.summary, app.document.layout,
                                                      app.summary_key != app.analysis_key()))
 

@@ -14,6 +14,7 @@ import math
 from collections.abc import Callable, Iterable
 from typing import Any, TypeVar
 
+from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -29,7 +30,7 @@ from trayadvisor.model import (
     Layout,
     Limit,
 )
-from trayadvisor.output import fmt_mm, fmt_uT
+from trayadvisor.output import fmt_mm, fmt_uT, plain
 from trayadvisor.tui.logic.settings import MAP_STYLES, TYPED_LIMIT, ViewSettings, chosen_limit
 from trayadvisor.tui.screens.dialogs import Dialog
 
@@ -62,7 +63,7 @@ class FormScreen(Dialog[T]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="form"):
-            yield Static(self.TITLE_TEXT, classes="form-title")
+            yield Static(self.TITLE_TEXT, classes="form-title", markup=False)
             for label, widget in self.fields():
                 if widget.has_class("wide"):  # a list under its own heading, full width
                     if label:
@@ -163,17 +164,26 @@ class FormScreen(Dialog[T]):
         return None if v is Select.NULL or v == _NONE else v
 
 
-def _select(wid: str, options: Iterable[str], value: str | None, blank: str = "") -> Select:
-    opts = ([(blank, _NONE)] if blank else []) + [(o, o) for o in options]
+def _select(wid: str, options: Iterable[str], value: str | None, blank: str = "",
+            keep: bool = False) -> Select:
+    """A choice among ``options`` (names shown as plain text, never markup); ``blank`` is
+    the label of a first "none" row; with ``keep`` a ``value`` that is not an option
+    (a name the file holds) is offered too, so opening and accepting the form keeps it."""
+    names = list(options)
+    if keep and value is not None and value != _NONE and value not in names:
+        names.append(value)
+    opts = ([(blank, _NONE)] if blank else []) + [(o, o) for o in names]
     opts = opts or [("(none)", _NONE)]
     values = [v for _, v in opts]
-    return Select(opts, value=value if value in values else values[0], allow_blank=False,
+    shown = [(Text(plain(label)), v) for label, v in opts]
+    return Select(shown, value=value if value in values else values[0], allow_blank=False,
                   id=wid, compact=True)
 
 
 def limit_row(lim: Limit, figure: LimitFigure | None) -> str:
     """One line of the limit list: verdict at d, value, name, kind, clearance distance."""
-    name = lim.name if len(lim.name) <= 20 else lim.name[:19] + "…"
+    name = plain(lim.name)
+    name = name if len(name) <= 20 else name[:19] + "…"
     level = lim.value_uT if figure is None else figure.limit_uT
     value = "?" if level is None else fmt_uT(level)
     if figure is None:
@@ -208,7 +218,7 @@ class SettingsForm(FormScreen[ViewSettings | None]):
                           + limit_row(lim, self.figures.get(lim.name)), id=lim.name)
                    for lim in self.limits]
         yield ("Limit (↑↓ picks, Enter closes): verdict at d, clearance",
-               OptionList(*options, id="limits", classes="wide"))
+               OptionList(*options, id="limits", classes="wide", markup=False))
 
     def on_mount(self) -> None:
         names = [lim.name for lim in self.limits]

@@ -21,7 +21,11 @@ GLYPHS = (
     "· = the curve at distance d outside the tray envelope, × = where the field on it "
     "peaks. The Field map shades the resultant RMS field on a log scale; digits 1-4 mark "
     "the iso-levels named in the legend. Places: ◆ = an observation point, ╌ = a line, a "
-    "rounded dashed outline = an area, each with its name."
+    "rounded dashed outline = an area, each with its name. "
+    "Plates are filled to scale, at least one cell thick however far you zoom out: "
+    "# = steel (magnetic), = = another metal (stainless steel, aluminium, copper); a "
+    "sheet tray's bottom, sides and cover are drawn the same way. Conductors are drawn "
+    "over them."
 )
 
 LIMITS = (
@@ -61,7 +65,7 @@ class HelpScreen(Dialog[None]):
             t.append(f"  {keys:<12} {desc:<40} [{bid}]\n")
         t.append("\n  The arrows move the selected conductor when the drawing has the focus.\n"
                  "  Tab moves the focus between the drawing and the list; in the list ↑↓ "
-                 "select and Enter edits the conductor, circuit or tray.\n"
+                 "select and Enter edits the conductor, circuit, tray or plate.\n"
                  "  In the Field view, m switches the map between colour and shading.\n"
                  "  In the Ranking view: r ranks the open layout, Esc stops a run and keeps "
                  "the best found so far, a or Enter applies the highlighted option as one "
@@ -75,6 +79,14 @@ class HelpScreen(Dialog[None]):
                  "Delete removes), and rows that add one. A limit is a level in µT or a "
                  "library entry, with its kind, band and the places it applies at (none: "
                  "the curve at d).\n"
+                 "  P (Section, Field, Coupling) opens the plates menu: every plate and "
+                 "every sheet tray (Enter edits; the forms' Delete removes), and a row that "
+                 "adds a plate (a steel sheet below the drawing to start from). A plate is "
+                 "a rectangle of metal with a material (steel, stainless, aluminium, "
+                 "copper) or its own μr and σ; plates with one body are bonded together. "
+                 "A tray becomes a solid sheet tray in its form (t, or Enter on its row): "
+                 "sheet material, thickness and cover. Enter on a plate row of the list "
+                 "edits it too.\n"
                  "  In the Field view, v shows every place with its AC and DC maxima and "
                  "each bound limit's kind, index, margin and pass/FAIL (↑↓ scroll it, Tab "
                  "back to the drawing).\n\n")

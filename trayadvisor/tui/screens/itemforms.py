@@ -1,4 +1,5 @@
-"""The forms of the things a cross-section is made of: conductors, circuits and trays.
+"""The forms of the things a cross-section is made of: conductors, circuits, trays and
+plates.
 
 Each form checks its fields (:class:`~trayadvisor.tui.screens.forms.FormScreen`); the edit
 then goes through the document's validation like every other edit.
@@ -15,6 +16,7 @@ from textual.widget import Widget
 from textual.widgets import Input, Select
 
 from trayadvisor.model import (
+    DEFAULT_SHEET_MM,
     MATERIALS,
     PHASES,
     SCREEN_BONDINGS,
@@ -22,8 +24,10 @@ from trayadvisor.model import (
     Circuit,
     Conductor,
     Layout,
+    Plate,
     Tray,
 )
+from trayadvisor.tui.logic.platetext import PLATE_MATERIAL_NAMES
 from trayadvisor.tui.screens.forms import FormError, FormScreen, _select, _text
 
 
@@ -149,7 +153,8 @@ class CircuitForm(FormScreen[Circuit | str | None]):
 
 
 class TrayForm(FormScreen[Tray | str | None]):
-    """A tray's inner cross-section: lower-left corner, width and depth."""
+    """A tray's inner cross-section (lower-left corner, width and depth) and, for a solid
+    sheet tray, the sheet's material and thickness and whether it has a cover."""
 
     def __init__(self, layout: Layout, tray: Tray, new: bool = False) -> None:
         super().__init__(deletable=not new)
@@ -163,11 +168,73 @@ class TrayForm(FormScreen[Tray | str | None]):
         yield "y mm (floor)", Input(_text(t.y_mm), id="y", compact=True)
         yield "Width mm", Input(_text(t.width_mm), id="width", compact=True)
         yield "Depth mm", Input(_text(t.depth_mm), id="depth", compact=True)
+        yield "Sheet (solid tray)", _select("sheet", PLATE_MATERIAL_NAMES, t.sheet,
+                                            blank="(none: ladder, mesh)", keep=True)
+        yield "Sheet mm", Input(_text(t.sheet_mm), id="sheet-mm", compact=True,
+                                placeholder="thickness of the bottom and sides")
+        yield "Cover", _select("cover", ("no", "yes"), "yes" if t.cover else "no")
 
     def build(self) -> Tray | str | None:
         taken = {t.name for t in self.lay.trays} - ({self.tray.name} if not self.new
                                                        else set())
-        return Tray(name=self.unique_text("name", "name", taken), x_mm=self.number("x", "x", "mm"),
-                    y_mm=self.number("y", "y", "mm"),
-                    width_mm=self.number("width", "width", "mm", 0.0, strict=True),
-                    depth_mm=self.number("depth", "depth", "mm", 0.0, strict=True))
+        name = self.unique_text("name", "name", taken)
+        x = self.number("x", "x", "mm")
+        y = self.number("y", "y", "mm")
+        width = self.number("width", "width", "mm", 0.0, strict=True)
+        depth = self.number("depth", "depth", "mm", 0.0, strict=True)
+        sheet = self.choice("sheet")
+        sheet_mm = self.number("sheet-mm", "sheet thickness", "mm", 0.0, strict=True)
+        cover = self.choice("cover") == "yes"
+        if cover and sheet is None:
+            raise FormError("cover", "cover: only a sheet tray has one; pick the sheet's "
+                            "material or set cover to no (a separate cover: P adds a plate)")
+        if sheet is None and sheet_mm != DEFAULT_SHEET_MM:
+            raise FormError("sheet-mm", f"sheet mm: only a sheet tray has a sheet; pick its "
+                            f"material, or leave {DEFAULT_SHEET_MM:g}")
+        return Tray(name=name, x_mm=x, y_mm=y, width_mm=width, depth_mm=depth, sheet=sheet,
+                    sheet_mm=sheet_mm, cover=cover)
+
+
+class PlateForm(FormScreen[Plate | str | None]):
+    """A plate: an axis-aligned rectangle of metal (lower-left corner, width, height), its
+    material or its explicit μr and σ, and the body it is bonded into."""
+
+    def __init__(self, layout: Layout, plate: Plate, new: bool = False) -> None:
+        super().__init__(deletable=not new)
+        self.lay, self.plate, self.new = layout, plate, new
+        self.TITLE_TEXT = "New plate" if new else f"Plate {plate.name}"
+
+    def fields(self) -> Iterable[tuple[str, Widget]]:
+        p = self.plate
+        yield "Name", Input(p.name, id="name", compact=True)
+        yield "x mm (left)", Input(_text(p.x_mm), id="x", compact=True)
+        yield "y mm (bottom)", Input(_text(p.y_mm), id="y", compact=True)
+        yield "Width mm", Input(_text(p.width_mm), id="width", compact=True)
+        yield "Height mm", Input(_text(p.height_mm), id="height", compact=True)
+        yield "Material", _select("material", PLATE_MATERIAL_NAMES, p.material,
+                                  blank="(μr and σ below)", keep=True)
+        yield "μr (opt.)", Input(_text(p.mu_r), id="mu", compact=True,
+                                 placeholder="relative permeability")
+        yield "σ S/m (opt.)", Input(_text(p.sigma_s_per_m), id="sigma", compact=True,
+                                    placeholder="conductivity")
+        yield "Body (opt.)", Input(p.body or "", id="body", compact=True,
+                                   placeholder="same body = bonded together")
+
+    def build(self) -> Plate | str | None:
+        taken = {q.name for q in self.lay.all_plates()} - ({self.plate.name}
+                                                          if not self.new else set())
+        name = self.unique_text("name", "name", taken)
+        x = self.number("x", "x", "mm")
+        y = self.number("y", "y", "mm")
+        width = self.number("width", "width", "mm", 0.0, strict=True)
+        height = self.number("height", "height", "mm", 0.0, strict=True)
+        material = self.choice("material")
+        mu_r = self.number("mu", "μr", "(relative permeability; 1 = non-magnetic)", 1.0,
+                           optional=True)
+        sigma = self.number("sigma", "σ", "S/m", 0.0, optional=True)
+        if material is None and (mu_r is None or sigma is None):
+            raise FormError("mu" if mu_r is None else "sigma",
+                            "pick a material, or give both μr and σ (S/m)")
+        return Plate(name=name, x_mm=x, y_mm=y, width_mm=width, height_mm=height,
+                     material=material, mu_r=mu_r, sigma_s_per_m=sigma,
+                     body=self.text_of("body") or None)

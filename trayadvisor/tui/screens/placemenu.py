@@ -50,7 +50,8 @@ class PlacesMenu(Dialog[str | None]):
         rows = menu_rows(self.lay)
         with Vertical(classes="dialog places-menu"):
             yield Static("Title, frequency, places and limits", classes="form-title")
-            yield OptionList(*[Option(text, id=oid) for oid, text in rows], id="place-rows")
+            yield OptionList(*[Option(text, id=oid) for oid, text in rows], id="place-rows",
+                             markup=False)
             yield Static("↑↓ pick · Enter opens · Esc closes", classes="hint")
 
     def on_mount(self) -> None:

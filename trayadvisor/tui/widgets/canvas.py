@@ -1,4 +1,5 @@
-"""The cross-section canvas: trays to scale, conductor glyphs, the contour at d, the map.
+"""The cross-section canvas: trays and plates to scale, conductor glyphs, the contour at d,
+the map.
 
 A thin widget: it draws what :func:`trayadvisor.tui.logic.scene.build_scene` lays out and posts
 messages for the keys it owns (moving the selected conductor). It computes no field; the
@@ -27,6 +28,10 @@ _PALETTE = [f"rgb({r},{g},{b})" for r, g, b in palette()]
 #: Circuit colours (foreground on a dark cell); the glyphs carry the meaning, colour helps.
 _CIRCUIT_COLOURS = ("#ffd75f", "#5fd7ff", "#ff87d7", "#87ff87", "#ffaf5f", "#af87ff",
                     "#ff5f5f", "#d7d7d7")
+#: Plates (foreground, background): steel blue-grey, other metals warm brown; the fill
+#: glyph (``#`` or ``=``) tells them apart without colour.
+PLATE_COLOURS: dict[bool, tuple[str, str]] = {True: ("#b8c8d8", "#3a4a5a"),
+                                              False: ("#f0c890", "#5a4024")}
 
 
 @dataclass(frozen=True)
@@ -245,6 +250,9 @@ class SectionCanvas(Widget, can_focus=True):
             return Style(bold=True)
         if kind == "note":
             return Style(color="grey85", bgcolor="grey11")
+        if kind == "plate":  # solid metal: its own colours over the map, glyph by kind
+            fg, bg = PLATE_COLOURS[bool(key[1])]
+            return Style(color=fg, bgcolor=bg)
         bg = _PALETTE[key[1]] if len(key) == 2 and key[1] is not None else None
         if kind == "tray":
             return Style(color="grey85", bgcolor=bg)

@@ -17,12 +17,20 @@ from textual.widgets.option_list import Option
 
 from trayadvisor.analysis import FieldSummary, LimitFigure
 from trayadvisor.model import Conductor, Layout, Limit
-from trayadvisor.output import decay_text, fmt_mm, fmt_uT
+from trayadvisor.output import decay_text, fmt_mm, fmt_uT, plain
 from trayadvisor.tui.logic.couplingtext import Line
 from trayadvisor.tui.logic.mapscale import DECADES, MapScale, fmt_level, palette
 from trayadvisor.tui.logic.placetext import KIND_MEANING
+from trayadvisor.tui.logic.platetext import (
+    MAGNETIC_GLYPH,
+    OTHER_GLYPH,
+    material_text,
+    plate_glyph,
+    sheet_text,
+)
 from trayadvisor.tui.logic.scene import PHASE_GLYPH, circuit_tags
 from trayadvisor.tui.logic.settings import limit_kind, limit_level_uT
+from trayadvisor.tui.widgets.canvas import PLATE_COLOURS
 
 
 def order_text(order: int | None) -> str:
@@ -73,7 +81,8 @@ class StatusLine(Static):
 
 
 class ConductorList(OptionList):
-    """Circuits with their conductors, then trays; the highlight follows the selection."""
+    """Circuits with their conductors, then trays and plates; the highlight follows the
+    selection. Rows are plain text (names are never read as markup)."""
 
     class Picked(Message):
         """The highlight moved to a conductor (``kind`` "conductor") or another row."""
@@ -83,16 +92,16 @@ class ConductorList(OptionList):
             self.kind, self.name = kind, name
 
     class EditRequested(Message):
-        """Enter on a row: edit that conductor, circuit or tray."""
+        """Enter on a row: edit that conductor, circuit, tray or plate."""
 
         def __init__(self, kind: str, name: str) -> None:
             super().__init__()
             self.kind, self.name = kind, name
 
-    _KINDS = {"k": "conductor", "c": "circuit", "t": "tray"}
+    _KINDS = {"k": "conductor", "c": "circuit", "t": "tray", "pl": "plate"}
 
     def __init__(self, *, id: str | None = None) -> None:
-        super().__init__(id=id)
+        super().__init__(id=id, markup=False)
         self._ids: list[str] = []
         self._prompts: list[str] = []
         self._quiet = False
@@ -105,17 +114,23 @@ class ConductorList(OptionList):
 
         def row(c: Conductor, glyph: str) -> tuple[str, str]:
             mark = "▸" if c.name == selected else " "
-            return (f"k:{c.name}", f"{mark}{glyph} {c.name:<10.10} {c.x_mm:>5.0f}"
+            return (f"k:{c.name}", f"{mark}{glyph} {plain(c.name):<10.10} {c.x_mm:>5.0f}"
                     f"{c.y_mm:>5.0f}")
 
         for circ in layout.circuits:
             amps = "" if circ.system == "signal" else f" {circ.current_a:g} A"
-            out.append((f"c:{circ.name}", f"{tags[circ.name]} {circ.name} {circ.system}{amps}"))
+            out.append((f"c:{circ.name}", f"{tags[circ.name]} {plain(circ.name)} "
+                        f"{circ.system}{amps}"))
             out += [row(c, PHASE_GLYPH.get(c.phase, "?")) for c in layout.conductors_of(circ.name)]
         known = {c.name for c in layout.circuits}
         out += [row(c, "?") for c in layout.conductors if c.circuit not in known]
         for t in layout.trays:
-            out.append((f"t:{t.name}", f"tray {t.name} {t.width_mm:g}×{t.depth_mm:g}"))
+            sheet = f" {sheet_text(t)}" if t.sheet else ""
+            out.append((f"t:{t.name}", f"tray {plain(t.name)} {t.width_mm:g}×{t.depth_mm:g}"
+                        f"{sheet}"))
+        for p in layout.plates:
+            out.append((f"pl:{p.name}", f"{plate_glyph(p)} plate {plain(p.name)} "
+                        f"{material_text(p)} {p.width_mm:g}×{p.height_mm:g}"))
         return out
 
     def show(self, layout: Layout, selected: str | None) -> None:
@@ -271,7 +286,8 @@ class FieldReadout(Static):
 class MapLegend(Static):
     """The map key in µT: shading glyphs (or colours) and iso-level digits."""
 
-    def show(self, scale: MapScale | None, style: str) -> None:
+    def show(self, scale: MapScale | None, style: str, plates: bool = False) -> None:
+        """``plates``: the layout has plates (their glyphs get a line)."""
         t = Text(no_wrap=True, overflow="ellipsis")
         if scale is None:
             self.update("", layout=False)
@@ -291,6 +307,13 @@ class MapLegend(Static):
             t.append("iso " + " ".join(f"{k + 1}={fmt_level(v)}" for k, v in enumerate(e)))
             t.append("\n")
         t.append("· contour at d  × peak\n")
+        if plates:
+            for magnetic, glyph, words in ((True, MAGNETIC_GLYPH, " steel plate "),
+                                           (False, OTHER_GLYPH, " other metal")):
+                fg, bg = PLATE_COLOURS[magnetic]
+                t.append(glyph, style=f"{fg} on {bg}")
+                t.append(words)
+            t.append("\n")
         t.append("◆ point ╌ line ┄ area\nv: places and their limits")
         self.update(t, layout=False)
 
