@@ -175,7 +175,7 @@ def _run_pool(job: Job, files: list[str], results: list[FileResult | None], done
 FIELD_COLUMNS: tuple[str, ...] = (
     "file", "status", "error", "distance_mm", "max_resultant_uT", "max_at_x_mm", "max_at_y_mm",
     "far_field_order", "far_field_uT_at_1m", "points", "limits", "limits_failed", "dc_max_uT",
-    "place_limits_failed")
+    "place_limits_failed", "plates", "plate_loss_w_per_m")
 #: Prefix of the per-file columns of ``field``: one per place-bound limit and place, holding
 #: that limit's index there (``index:LIMIT@PLACE``; pass = index <= 1).
 INDEX_PREFIX = "index:"
@@ -196,7 +196,9 @@ def field_job(layout: Layout, opts: dict) -> tuple[dict, dict]:
            "far_field_order": data["far_field_order"],
            "far_field_uT_at_1m": data["far_field_uT_at_1m"], "points": len(data["points"]),
            "limits": len(lims), "limits_failed": sum(1 for x in lims if not x["pass"]),
-           "dc_max_uT": data["dc_max_uT"], "place_limits_failed": 0}
+           "dc_max_uT": data["dc_max_uT"], "place_limits_failed": 0,
+           "plates": len(data["plates"]),
+           "plate_loss_w_per_m": sum(p["loss_w_per_m"] for p in data["plates"])}
     for place in data["places"]:
         for q in place["limits"]:
             row[f"{INDEX_PREFIX}{_cell_text(q['name'])}@{_cell_text(place['name'])}"] = \

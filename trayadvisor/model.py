@@ -264,6 +264,9 @@ class Layout:
     areas: tuple[ObservationArea, ...] = ()
     earth_y_mm: float | None = None  # height of an earth reference plane (coupling), mm
     plates: tuple[Plate, ...] = ()
+    #: What-if switch, never saved: every figure as if no plate (nor sheet metal) were there,
+    #: on the same envelope (the with / without comparison).
+    without_metal: bool = False
 
     # -- look-ups -------------------------------------------------------------------------
     def circuit(self, name: str) -> Circuit:
@@ -308,7 +311,10 @@ class Layout:
         raise KeyError(name)
 
     def all_plates(self) -> tuple[Plate, ...]:
-        """The ``[[plate]]`` entries and the plates of every sheet tray."""
+        """The ``[[plate]]`` entries and the plates of every sheet tray (none when
+        ``without_metal``)."""
+        if self.without_metal:
+            return ()
         return self.plates + tuple(p for t in self.trays for p in t.sheet_plates())
 
     def has_induced_paths(self) -> bool:

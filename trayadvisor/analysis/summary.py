@@ -26,6 +26,12 @@ from trayadvisor.analysis.judging import (
     outside_notes,
     place_figures,
 )
+from trayadvisor.analysis.plates import (
+    PlateComparison,
+    PlateFigure,
+    compare_summaries,
+    plate_figures,
+)
 from trayadvisor.coupling import (
     DEFAULT_TEMPERATURE_C,
     PassiveFigure,
@@ -103,6 +109,7 @@ class FieldSummary:
     places: tuple[PlaceFigure, ...] = ()  # every point, line and area with its limits
     screens: tuple[ScreenFigure, ...] = ()  # induced currents in the figures (solved only)
     passive: tuple[PassiveFigure, ...] = ()
+    plates: tuple[PlateFigure, ...] = ()  # every plate with its eddy-current loss
 
     def to_json(self) -> dict:
         """The ``field --json`` object (docs/json.md; keys may be added, never renamed)."""
@@ -157,6 +164,7 @@ class FieldSummary:
             ],
             "screens": [f.to_json() for f in self.screens],
             "passive": [f.to_json() for f in self.passive],
+            "plates": [f.to_json() for f in self.plates],
             "notes": list(self.notes),
         }
 
@@ -266,6 +274,7 @@ def field_summary(
         places=places,
         screens=induced[0],
         passive=induced[1],
+        plates=plate_figures(layout, src),
         currents=currents,
         conductor_currents=tuple(
             ConductorCurrent(name, int(h), float(abs(v)), _angle_deg(v))
@@ -274,6 +283,16 @@ def field_summary(
         notes=tuple(notes),
         temperature_c=temperature_c if currents == "solved" else None,
     )
+
+
+def plate_comparison(layout: Layout, **options) -> PlateComparison:  # noqa: ANN003
+    """:func:`field_summary` with and without the plates (``Layout.without_metal``), paired
+    by :func:`~trayadvisor.analysis.compare_summaries`. ``options`` are those of
+    ``field_summary``; ValueError when the layout has no plate (nothing to compare)."""
+    if not layout.all_plates():
+        raise ValueError("the layout has no plate or sheet tray: nothing to compare")
+    return compare_summaries(field_summary(layout, **options),
+                             field_summary(replace(layout, without_metal=True), **options))
 
 
 def _with_dc(ac: tuple[PointFigure, ...], dc: tuple[PointFigure, ...]

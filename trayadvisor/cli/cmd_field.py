@@ -3,11 +3,14 @@
 from __future__ import annotations
 
 import argparse
+import math
+from dataclasses import replace
 
-from trayadvisor.analysis import FieldSummary, field_summary
+from trayadvisor.analysis import FieldSummary, PlateComparison, compare_summaries, field_summary
 from trayadvisor.batch import expand_inputs
 from trayadvisor.cli.batch_runs import run_batch
 from trayadvisor.cli.common import (
+    UserError,
     add_temperature,
     current_model,
     load,
@@ -39,6 +42,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help="solved current sharing between parallel conductors (the default; "
                    "kept for scripts)")
     add_temperature(p)
+    p.add_argument("--compare-plates", action="store_true",
+                   help="also compute every figure without the plates and sheet metal and "
+                   "print the shielding factor (with / without) at each place and on the curve")
     p.add_argument("--json", action="store_true", help="print the figures as JSON")
     p.add_argument("--out", default=None, metavar="SUMMARY.csv",
                    help="batch runs: write one summary row per file")
@@ -93,6 +99,34 @@ def _induced_rows(s: FieldSummary) -> list[str]:
     return rows
 
 
+def _plate_rows(s: FieldSummary) -> list[str]:
+    """Plates in a few lines: the eddy-current loss of each conducting body."""
+    if not s.plates:
+        return []
+    bodies: dict[str, list] = {}
+    for p in s.plates:
+        bodies.setdefault(p.body, []).append(p)
+    parts = [f"{plain(b)} {sum(p.loss_w_per_m for p in ps):.3g} W/m"
+             for b, ps in bodies.items()]
+    return [f"  plates: {len(s.plates)} in {len(bodies)} bodies (finite elements, linear "
+            f"materials); eddy-current loss: {', '.join(parts)}"]
+
+
+def comparison_rows(c: PlateComparison) -> list[str]:
+    """The with / without plates table."""
+    rows = [f"  {'with / without plates':<28}{'with µT':>10}{'without µT':>12}{'factor':>9}"
+            f"{'dB':>7}"]
+    for r in c.rows:
+        f = f"{r.factor:.3g}" if math.isfinite(r.factor) else "-"
+        db = f"{r.reduction_db:+.1f}" if math.isfinite(r.reduction_db) else "-"
+        label = r.name if r.type == "curve" else f"{r.type} {r.name}"
+        rows.append(f"  {plain(label)[:27]:<28}{fmt_uT(r.with_uT):>10}"
+                    f"{fmt_uT(r.without_uT):>12}{f:>9}{db:>7}")
+    rows.append("  factor = with / without (below 1: the plates screen there); dB = "
+                "-20 log10(factor)")
+    return rows
+
+
 def render(path: str, layout: Layout, s: FieldSummary) -> str:
     order = decay_text(s.far_field_order)
     rows = [
@@ -136,6 +170,7 @@ def render(path: str, layout: Layout, s: FieldSummary) -> str:
                         f"{lim.index:>8.3g}{_db(lim.margin_db):>7}  "
                         f"{fmt_mm(lim.clearance_mm):>10}  {_verdict(lim.index)}")
     rows += _induced_rows(s)
+    rows += _plate_rows(s)
     rows.append("  currents: " + ("solved sharing between parallel conductors"
                                   if s.currents == "solved" else "equal shares (--equal-shares)"))
     rows += [f"  note: {plain(n)}" for n in s.notes]
@@ -150,8 +185,22 @@ def run(args: argparse.Namespace) -> int:
         return run_batch("field", files, opts, args)
     layout = load(files[0])
     summary = field_summary(layout, **opts)
+    comparison = None
+    if args.compare_plates:
+        if not layout.all_plates():
+            raise UserError(f"{plain(files[0])}: --compare-plates: the layout has no "
+                            "[[plate]] and no sheet tray; add one, or leave the flag out")
+        comparison = compare_summaries(
+            summary, field_summary(replace(layout, without_metal=True), **opts))
     if args.json:
-        print_json(summary.to_json())
+        out = summary.to_json()
+        if comparison is not None:
+            out["plate_comparison"] = comparison.to_json()
+        print_json(out)
     else:
-        print(render(files[0], layout, summary))
+        text = render(files[0], layout, summary)
+        if comparison is not None:
+            head, _, caution = text.rpartition("\n")
+            text = "\n".join([head, *comparison_rows(comparison), caution])
+        print(text)
     return 0
