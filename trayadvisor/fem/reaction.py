@@ -33,6 +33,8 @@ from trayadvisor.model import Layout
 _SOLVERS_KEPT = 10
 #: Memory for cached unit reaction potentials per solver, bytes.
 _UNIT_BYTES = 96 * 2**20
+#: Bounds of the element size near the conductors, m.
+_NEAR_MIN_M, _NEAR_MAX_M = 0.002, 0.015
 #: Reaction potentials of whole arrangements kept (the curve, places and maps of one
 #: layout evaluate the same currents many times).
 _COMBINED_KEPT = 32
@@ -67,12 +69,16 @@ def solver_plates(layout: Layout) -> list[Plate]:
 
 
 def meshed_extent_m(layout: Layout) -> tuple[float, float, float, float]:
-    """Trays and plates (the conductors too when there is no tray), m, rounded outwards to
-    the extent grid: moving conductors inside their trays keeps it, so the solvers stay."""
-    boxes = [t.outer_bounds for t in layout.trays] + [p.bounds for p in layout.all_plates()]
-    if not layout.trays:
-        boxes += [(c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
-                   c.y_mm + c.radius_mm) for c in layout.conductors]
+    """Where the sources are, m: the trays (the conductors when there is no tray; the
+    plates when there is neither), rounded outwards to the extent grid. The mesh is finest
+    there and grows with the distance from it (plates far away get their own layers);
+    moving conductors inside their trays keeps it, so the solvers stay."""
+    boxes = [t.outer_bounds for t in layout.trays]
+    if not boxes:
+        boxes = [(c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
+                  c.y_mm + c.radius_mm) for c in layout.conductors]
+    if not boxes:
+        boxes = [p.bounds for p in layout.all_plates()]
     g = _EXTENT_GRID_M
     return (math.floor(min(b[0] for b in boxes) * MM / g) * g,
             math.floor(min(b[1] for b in boxes) * MM / g) * g,
@@ -80,13 +86,28 @@ def meshed_extent_m(layout: Layout) -> tuple[float, float, float, float]:
             math.ceil(max(b[3] for b in boxes) * MM / g) * g)
 
 
+def near_size_m(layout: Layout) -> float:
+    """Element size near the conductors: 1/40 of the trays' and conductors' extent (the
+    plates' when there are neither), from 2 to 15 mm (bench/bench_fem.py: 10 mm near a
+    600 mm tray agrees with a twice finer mesh to 0.2 %)."""
+    boxes = [t.outer_bounds for t in layout.trays] + [
+        (c.x_mm - c.radius_mm, c.y_mm - c.radius_mm, c.x_mm + c.radius_mm,
+         c.y_mm + c.radius_mm) for c in layout.conductors]
+    if not boxes:
+        boxes = [p.bounds for p in layout.all_plates()]
+    size = max(max(b[2] for b in boxes) - min(b[0] for b in boxes),
+               max(b[3] for b in boxes) - min(b[1] for b in boxes)) * MM
+    return min(max(size / 40.0, _NEAR_MIN_M), _NEAR_MAX_M)
+
+
 def cached_solver(plates: tuple[Plate, ...], frequency_hz: float,
-                  extent_m: tuple[float, float, float, float]) -> PlateSolver:
+                  extent_m: tuple[float, float, float, float],
+                  near_h_m: float | None = None) -> PlateSolver:
     """The solver of these plates at this frequency (built once, then reused)."""
-    key = (plates, float(frequency_hz), extent_m)
+    key = (plates, float(frequency_hz), extent_m, near_h_m)
     solver = _solvers.get(key)
     if solver is None:
-        solver = PlateSolver(list(plates), float(frequency_hz), extent_m)
+        solver = PlateSolver(list(plates), float(frequency_hz), extent_m, near_h_m)
         _solvers[key] = solver
         while len(_solvers) > _SOLVERS_KEPT:
             _solvers.popitem(last=False)
@@ -104,12 +125,17 @@ class PlateReaction:
         In metres (:func:`solver_plates`).
     extent_m : (x0, y0, x1, y1)
         The finely meshed extent (:func:`meshed_extent_m`).
+    near_h_m : float, optional
+        Element size near the conductors (:func:`near_size_m`; default 1/40 of the
+        extent).
     """
 
     def __init__(self, plates: list[Plate] | tuple[Plate, ...],
-                 extent_m: tuple[float, float, float, float]) -> None:
+                 extent_m: tuple[float, float, float, float],
+                 near_h_m: float | None = None) -> None:
         self.plates = tuple(plates)
         self.extent_m = extent_m
+        self.near_h_m = near_h_m
         self._units: dict[float, OrderedDict[tuple[float, float], np.ndarray]] = {}
         self._combined: OrderedDict[tuple, np.ndarray] = OrderedDict()
 
@@ -123,7 +149,7 @@ class PlateReaction:
         return out
 
     def solver(self, frequency_hz: float) -> PlateSolver:
-        return cached_solver(self.plates, frequency_hz, self.extent_m)
+        return cached_solver(self.plates, frequency_hz, self.extent_m, self.near_h_m)
 
     def _unit_potentials(self, xy_m: np.ndarray, frequency_hz: float) -> np.ndarray:
         """(N, n) reaction potential of 1 A at each centre; new centres in one solve."""
@@ -211,7 +237,8 @@ def layout_reaction(layout: Layout) -> PlateReaction | None:
     for the same plates and extent, so its cached potentials serve every later call)."""
     if not layout.all_plates():
         return None
-    key = (tuple(solver_plates(layout)), meshed_extent_m(layout))
+    key = (tuple(solver_plates(layout)), meshed_extent_m(layout),
+           round(near_size_m(layout), 4))
     reaction = _reactions.get(key)
     if reaction is None:
         reaction = PlateReaction(*key)
