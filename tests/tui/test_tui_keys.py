@@ -16,13 +16,14 @@ from trayadvisor.tui.screens.base import WorkScreen
 # Every key the app binds, plus typing and navigation keys; ctrl+q is left out so the run
 # is not ended by a quit with nothing to save, and R (a report: seconds of work per Enter).
 # Escape comes three times so that the walk does not spend most of its keys typing into
-# forms.
+# forms. P opens the plates menu; w is the Field view's with / without plates panel (and
+# the Ranking view's save); v the places panel.
 KEYS = (
     "left right up down shift+left shift+right shift+up shift+down tab shift+tab enter "
     "escape escape escape space backspace delete home end pageup pagedown "
     "a c x e i n t T d m u S h j k l 0 plus minus question_mark "
     "left_square_bracket right_square_bracket 1 2 3 4 ctrl+s ctrl+o ctrl+r ctrl+z ctrl+y "
-    "y s f1 5 full_stop minus q r w p"
+    "y s f1 5 full_stop minus q r w p P v"
 ).split()
 
 

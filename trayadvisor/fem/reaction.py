@@ -19,6 +19,7 @@ Re-use, so that an edit or a search costs back-substitutions, not meshes:
 from __future__ import annotations
 
 import math
+import threading
 from collections import OrderedDict
 
 import numpy as np
@@ -42,6 +43,8 @@ _COMBINED_KEPT = 32
 _EXTENT_GRID_M = 0.05
 
 _solvers: OrderedDict[tuple, PlateSolver] = OrderedDict()
+_building: dict[tuple, threading.Lock] = {}
+_lock = threading.Lock()
 _reactions: OrderedDict[tuple, PlateReaction] = OrderedDict()
 
 
@@ -105,14 +108,20 @@ def cached_solver(plates: tuple[Plate, ...], frequency_hz: float,
                   near_h_m: float | None = None) -> PlateSolver:
     """The solver of these plates at this frequency (built once, then reused)."""
     key = (plates, float(frequency_hz), extent_m, near_h_m)
-    solver = _solvers.get(key)
-    if solver is None:
+    with _lock:  # one lock per key: two workers asking at once build it once
+        key_lock = _building.setdefault(key, threading.Lock())
+    with key_lock:
+        with _lock:
+            solver = _solvers.get(key)
+            if solver is not None:
+                _solvers.move_to_end(key)
+                return solver
         solver = PlateSolver(list(plates), float(frequency_hz), extent_m, near_h_m)
-        _solvers[key] = solver
-        while len(_solvers) > _SOLVERS_KEPT:
-            _solvers.popitem(last=False)
-    else:
-        _solvers.move_to_end(key)
+        with _lock:
+            _solvers[key] = solver
+            _building.pop(key, None)
+            while len(_solvers) > _SOLVERS_KEPT:
+                _solvers.popitem(last=False)
     return solver
 
 

@@ -189,7 +189,11 @@ class PlateSolver:
             full = bmat([[a_ii, csc_matrix(cols)], [csc_matrix(cols.T), csc_matrix(diag)]])
         else:
             full = a_ii
-        self._lu = splu(csc_matrix(full))
+        # the matrix is complex symmetric: a minimum-degree ordering of AᵀA + A with the
+        # diagonal as pivots keeps the fill-in 10× smaller than the column ordering of the
+        # default (at 650 Hz in a steel tray: 0.4 s against 20 s; bench/bench_plates.py)
+        self._lu = splu(csc_matrix(full), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                        options={"SymmetricMode": True})
         self._tree = None
 
     @staticmethod

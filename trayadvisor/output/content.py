@@ -11,17 +11,17 @@ this content into HTML or Markdown.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from trayadvisor import __version__
-from trayadvisor.analysis import FieldSummary, field_summary
+from trayadvisor.analysis import FieldSummary, PlateComparison, compare_summaries, field_summary
 from trayadvisor.coupling import DEFAULT_TEMPERATURE_C, carried_sources, coupling_summary
 from trayadvisor.engine import DEFAULT_DISTANCE_MM, field_grid_uT, stray_uT
 from trayadvisor.layoutfile import dumps_layout
 from trayadvisor.limits import LibraryLimit, find, library_at, library_source
-from trayadvisor.model import Layout, Limit
+from trayadvisor.model import Layout, Limit, Plate
 from trayadvisor.output.jsontext import dumps
 from trayadvisor.output.pictures import (
     contours_svg,
@@ -46,6 +46,30 @@ PLACES_NOTE = (
     "Exposure levels are for people, immunity levels for equipment (never an exposure "
     "limit), targets are the project's own. Index = worst value over the place; pass when "
     "it is at most 1; margin = -20 log10(index) dB."
+)
+#: Under the plates tables: what of the metal is modelled and what is not.
+PLATES_NOTE = (
+    "Modelled: the plates and the solid sheet trays' metal the layout describes, solved by "
+    "2D finite elements in the cross-section, so every plate is taken as long and straight "
+    "along the run, like the cables; linear materials of constant μr and σ (a named "
+    "material takes typical data recalled from memory: check them against the "
+    "manufacturer's data); each insulated body (plates sharing a body; a sheet tray's bottom "
+    "and sides, its cover a body of its own) carries no net current, its eddy currents "
+    "summing to zero; the loss is the eddy-current loss per metre of run, summed over the AC "
+    "components at their own frequencies (DC drives none). Not modelled: hysteresis loss; "
+    "saturation of steel; perforations and slots, and ladder and mesh trays (a tray without "
+    "a sheet counts as no metal at all); joints and gaps along the run; a tray bonded to "
+    "earth carrying a net current (circulating or fault current); building steel "
+    "(reinforcement, beams, ducts) and any other metal the layout does not describe. "
+    "Measure installed fields where the figures matter."
+)
+#: Beside the with / without table: how its figures are made.
+COMPARISON_NOTE = (
+    "Without: every figure computed again as if no plate and no sheet metal existed, on the "
+    "same envelope (the curve at d is the same curve) with the same current model and "
+    "options; with solved sharing the currents are solved again without the plates. "
+    "Factor = with / without: below 1 the plates screen there, above 1 they concentrate "
+    "the field; reduction = -20 log10(factor) dB."
 )
 
 @dataclass(frozen=True)
@@ -73,6 +97,7 @@ class ReportContent:
     rank_note: str = ""
     coupling_json: dict | None = None
     coupling_note: str = ""
+    plate_comparison: PlateComparison | None = None
     pictures: list[Picture] = field(default_factory=list)
 
     def limit_notes(self) -> list[str]:
@@ -85,9 +110,13 @@ class ReportContent:
                 "guidance)."]
 
     def figures_json(self) -> dict:
-        """The machine-readable block: field (as ``field --json``), rank, couple."""
-        return {"trayadvisor": __version__, "field": self.field_json, "rank": self.rank_json,
-                "couple": self.coupling_json}
+        """The machine-readable block: field (as ``field --json``), rank, couple; with
+        plates, also ``plate_comparison`` (as in ``field --compare-plates --json``)."""
+        out = {"trayadvisor": __version__, "field": self.field_json, "rank": self.rank_json,
+               "couple": self.coupling_json}
+        if self.plate_comparison is not None:
+            out["plate_comparison"] = self.plate_comparison.to_json()
+        return out
 
 
 def sweep_distances(summary: FieldSummary) -> np.ndarray:
@@ -99,8 +128,8 @@ def sweep_distances(summary: FieldSummary) -> np.ndarray:
 
 
 def contour_bounds(layout: Layout, distance_mm: float) -> tuple[float, float, float, float]:
-    """The field map's extent (mm): the curve at d with a margin, and the named points and
-    lines."""
+    """The field map's extent (mm): the curve at d with a margin, the named points and
+    lines, and every plate with half that margin around it (the field on its far side)."""
     x0, y0, x1, y1 = layout.envelope_mm()
     m = max(150.0, 1.4 * distance_mm + 0.1 * max(x1 - x0, y1 - y0))
     xs = [x0 - m, x1 + m] + [p.x_mm for p in layout.points]
@@ -108,6 +137,10 @@ def contour_bounds(layout: Layout, distance_mm: float) -> tuple[float, float, fl
     for ln in layout.lines:
         xs += [ln.x0_mm, ln.x1_mm]
         ys += [ln.y0_mm, ln.y1_mm]
+    for pl in layout.all_plates():
+        px0, py0, px1, py1 = pl.bounds
+        xs += [px0 - 0.5 * m, px1 + 0.5 * m]
+        ys += [py0 - 0.5 * m, py1 + 0.5 * m]
     pad = 0.05 * m
     return (min(xs) - pad, min(ys) - pad, max(xs) + pad, max(ys) + pad)
 
@@ -122,11 +155,11 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
     ``temperature_c`` the conductor temperature of the resistance in the solved sharing."""
     f = float(layout.frequency_hz)
     library = library_at(f)
-    summary = field_summary(layout, distance_mm=distance_mm, currents=currents,
-                            temperature_c=temperature_c,
-                            limits=[Limit(lim.name, ut, library_source(lim, f), kind=lim.kind,
-                                          band=lim.band, library=lim.id)
-                                    for lim, ut in library])
+    options = {"distance_mm": distance_mm, "currents": currents,
+               "temperature_c": temperature_c,
+               "limits": [Limit(lim.name, ut, library_source(lim, f), kind=lim.kind,
+                                band=lim.band, library=lim.id) for lim, ut in library]}
+    summary = field_summary(layout, **options)
     src = carried_sources(layout, currents, temperature_c)
     d = sweep_distances(summary)
     b = np.array([stray_uT(layout, float(x), src) for x in d])
@@ -136,6 +169,9 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
         source_text=source_text if source_text is not None else dumps_layout(layout),
         summary=summary, field_json=summary.to_json(), library=library, sweep_mm=d,
         sweep_uT=b)
+    if layout.all_plates():  # the same figures again as if no plate existed
+        content.plate_comparison = compare_summaries(
+            summary, field_summary(replace(layout, without_metal=True), **options))
     if rank:
         content.rank_json = rank_layout(layout, distance_mm=distance_mm, top_k=top,
                                         currents=currents,
@@ -164,10 +200,10 @@ def build_report(layout: Layout, *, source_text: str | None = None, source_name:
                         "limits, their clearances (triangles; for an exposure level, where its "
                         "multi-frequency index reaches 1) and the far-field slope.",
                         distance_svg(d, b, summary, "fig4")))
-    options = option_layouts(content)
-    if options:
+    ranked = option_layouts(content)
+    if ranked:
         pics.append(Picture("options", "Ranked options as small multiples, the current "
-                            "arrangement first.", options_svg(options, "fig5")))
+                            "arrangement first.", options_svg(ranked, "fig5")))
     return content
 
 
@@ -293,6 +329,59 @@ def place_rows(c: ReportContent) -> list[list[Cell | str]]:
             rows.append(head + [q.name, kind, q.band.upper(), _cell(q.limit_uT),
                                 num(q.index, 4), margin, "pass" if q.passes else "FAIL"])
             head = ["", "", ""]
+    return rows
+
+
+PLATE_HEADER = ["plate", "material", "μr", "σ (MS/m)", "body", "width × height (mm)",
+                "lower-left x, y (mm)", "eddy-current loss (W/m)"]
+BODY_HEADER = ["body", "plates", "eddy-current loss (W/m)"]
+COMPARISON_HEADER = ["where", "with plates (µT)", "without plates (µT)",
+                     "factor (with / without)", "reduction (dB)"]
+
+
+def _material(plate: Plate) -> str:
+    """The material name, saying which data the layout gives itself."""
+    given = [w for w, v in (("μr", plate.mu_r), ("σ", plate.sigma_s_per_m)) if v is not None]
+    if not given:
+        return plate.material or "-"
+    words = f"{' and '.join(given)} given"
+    return f"{plate.material} ({words})" if plate.material else words
+
+
+def plate_rows(c: ReportContent) -> list[list[Cell | str]]:
+    """Every plate (``[[plate]]`` entries, then the sheet trays' metal) with the data the
+    figures use and its eddy-current loss (the field summary's own figures)."""
+    rows: list[list[Cell | str]] = []
+    for pl, fig in zip(c.layout.all_plates(), c.summary.plates, strict=True):
+        rows.append([fig.name, _material(pl), _cell(fig.mu_r), _cell(fig.sigma_s_per_m / 1e6),
+                     fig.body, f"{num(pl.width_mm)} × {num(pl.height_mm)}",
+                     f"{num(pl.x_mm)}, {num(pl.y_mm)}", _cell(fig.loss_w_per_m)])
+    return rows
+
+
+def body_rows(c: ReportContent) -> list[list[Cell | str]]:
+    """The loss of each conducting body (its plates summed), then of all of them."""
+    bodies: dict[str, list] = {}
+    for fig in c.summary.plates:
+        bodies.setdefault(fig.body, []).append(fig)
+    rows: list[list[Cell | str]] = [
+        [b, ", ".join(p.name for p in ps), _cell(sum(p.loss_w_per_m for p in ps))]
+        for b, ps in bodies.items()]
+    if len(bodies) > 1:
+        rows.append(["all bodies", f"{len(c.summary.plates)} plates",
+                     _cell(sum(p.loss_w_per_m for p in c.summary.plates))])
+    return rows
+
+
+def comparison_rows(c: ReportContent) -> list[list[Cell | str]]:
+    """The curve at d and every place, with and without the plates."""
+    rows: list[list[Cell | str]] = []
+    for r in (c.plate_comparison.rows if c.plate_comparison else ()):
+        f, db = r.factor, r.reduction_db
+        rows.append([r.name if r.type == "curve" else f"{r.type} {r.name}",
+                     _cell(r.with_uT), _cell(r.without_uT),
+                     ("-", None) if math.isnan(f) else (num(f, 3), f),
+                     ("-", None) if not math.isfinite(db) else (num(db, 3), db)])
     return rows
 
 

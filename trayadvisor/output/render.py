@@ -14,17 +14,25 @@ from collections.abc import Sequence
 from trayadvisor import __version__
 from trayadvisor.output.cautions import CAUTIONS
 from trayadvisor.output.content import (
+    BODY_HEADER,
+    COMPARISON_HEADER,
+    COMPARISON_NOTE,
     LIMITS_NOTE,
     PLACE_HEADER,
     PLACES_NOTE,
+    PLATE_HEADER,
+    PLATES_NOTE,
     Cell,
     Picture,
     ReportContent,
+    body_rows,
+    comparison_rows,
     embedded_json,
     json_notes,
     json_tables,
     limit_rows,
     place_rows,
+    plate_rows,
     rank_header,
     rank_rows,
     summary_rows,
@@ -85,6 +93,23 @@ def _rank_header(c: ReportContent) -> str:
             f"objective: maximum resultant field at d = {r.get('distance_mm', '?')} mm.")
 
 
+def _plates_lead(c: ReportContent) -> str:
+    return (f"Every plate and sheet tray part ({len(c.summary.plates)}), with the material "
+            "data the figures use and the eddy-current loss the currents drive in it, per "
+            "metre of run.")
+
+
+def _bodies_lead() -> str:
+    return ("The loss of each conducting body: plates sharing a body are one conductor, "
+            "every other plate is insulated from the rest.")
+
+
+def _comparison_lead(c: ReportContent) -> str:
+    d = c.plate_comparison.distance_mm if c.plate_comparison else c.summary.distance_mm
+    return (f"The AC resultant maximum on the curve at d = {d:g} mm and at every place, with "
+            f"and without the plates. {COMPARISON_NOTE}")
+
+
 def render_html(c: ReportContent) -> str:
     """The report as one HTML document (well-formed XML as well)."""
     pics = _pictures(c)
@@ -122,7 +147,18 @@ def render_html(c: ReportContent) -> str:
                 f"{_e(PLACES_NOTE)}</p>", _table(PLACE_HEADER, place_rows(c), "places-table")]
     if "distance" in pics:
         out.append(_figure(pics["distance"]))
-    out += ["</section>", '<section id="ranking"><h2>Ranked options</h2>']
+    out.append("</section>")
+    if c.summary.plates:
+        out += ['<section id="plates"><h2>Plates</h2>',
+                f'<p class="note">{_e(_plates_lead(c))}</p>',
+                _table(PLATE_HEADER, plate_rows(c), "plate-table"),
+                f'<p class="note">{_e(_bodies_lead())}</p>',
+                _table(BODY_HEADER, body_rows(c), "plate-body-table")]
+        if c.plate_comparison is not None:
+            out += [f'<p class="note">{_e(_comparison_lead(c))}</p>',
+                    _table(COMPARISON_HEADER, comparison_rows(c), "plate-comparison-table")]
+        out += [f'<p class="note">{_e(PLATES_NOTE)}</p>', "</section>"]
+    out += ['<section id="ranking"><h2>Ranked options</h2>']
     if c.rank_json is not None:
         out.append(f'<p class="note">{_e(_rank_header(c))}</p>')
         out.append(_table(rank_header(c), rank_rows(c), "rank-table"))
@@ -149,8 +185,14 @@ def render_html(c: ReportContent) -> str:
 
 
 # -- Markdown ------------------------------------------------------------------------------
+#: Characters with a meaning inside a Markdown line (emphasis, code, links, raw HTML,
+#: entities, mathematics in some renderers, table cells, headings): escaped with a backslash.
+_MD_SPECIAL = re.compile(r"([\\`*_\[\]<>&$~|#])")
+
+
 def _md(text: object) -> str:
-    return str(text).replace("\\", "\\\\").replace("|", "\\|").replace("\n", " ")
+    """Text (names, titles from a file) shown literally in Markdown, on one line."""
+    return _MD_SPECIAL.sub(r"\\\1", re.sub(r"[\r\n]+", " ", str(text)))
 
 
 def _md_table(header: Sequence[str], rows: Sequence[Sequence[Cell | str]]) -> str:
@@ -177,8 +219,8 @@ def render_markdown(c: ReportContent, picture_files: dict[str, str]) -> str:
         p = _pictures(c).get(key)
         return [f"![{_md(p.caption)}]({picture_files[key]})", ""] if p else []
 
-    out = [f"# {c.title}", "",
-           f"Layout: {c.source_name}; {c.layout.frequency_hz:g} Hz. Report by trayadvisor "
+    out = [f"# {_md(c.title)}", "",
+           f"Layout: {_md(c.source_name)}; {c.layout.frequency_hz:g} Hz. Report by trayadvisor "
            f"{__version__}.", "", "## Cautions", ""]
     out += [f"> {t}\n>" for t in CAUTIONS] + ["", "## Stray field at distance d", ""]
     out += [_md_table(["figure", "value", ""],
@@ -187,7 +229,7 @@ def render_markdown(c: ReportContent, picture_files: dict[str, str]) -> str:
         out += img(key)
     out += ["## Limits and clearances", "",
             f"Pass/fail at d = {s.distance_mm:g} mm. {LIMITS_NOTE}", "",
-            *[f"{n}\n" for n in c.limit_notes()],
+            *[f"{_md(n)}\n" for n in c.limit_notes()],
             _md_table(["limit", "µT", "source", "value", "clearance (mm)",
                        f"at {s.distance_mm:g} mm"], limit_rows(c)), ""]
     if place_rows(c):
@@ -195,6 +237,14 @@ def render_markdown(c: ReportContent, picture_files: dict[str, str]) -> str:
                 f"fundamental and harmonics; DC: the static field). {PLACES_NOTE}", "",
                 _md_table(PLACE_HEADER, place_rows(c)), ""]
     out += img("distance")
+    if c.summary.plates:
+        out += ["## Plates", "", _plates_lead(c), "",
+                _md_table(PLATE_HEADER, plate_rows(c)), "", _bodies_lead(), "",
+                _md_table(BODY_HEADER, body_rows(c)), ""]
+        if c.plate_comparison is not None:
+            out += [_comparison_lead(c), "",
+                    _md_table(COMPARISON_HEADER, comparison_rows(c)), ""]
+        out += [PLATES_NOTE, ""]
     out += ["## Ranked options", ""]
     if c.rank_json is not None:
         out += [_rank_header(c), "",
@@ -212,7 +262,7 @@ def render_markdown(c: ReportContent, picture_files: dict[str, str]) -> str:
     if not tables:
         out += [c.coupling_note or _NO_COUPLING, ""]
     what = "the file's own text" if c.source_is_file else "the layout as it would be saved"
-    out += ["## Appendix: layout file", "", f"{c.source_name}, {what}.", "",
+    out += ["## Appendix: layout file", "", f"{_md(c.source_name)}, {what}.", "",
             _fence(c.source_text, "toml"), "", "## Figures as JSON", "",
             _fence(embedded_json(c), "json"), ""]
     return "\n".join(out)

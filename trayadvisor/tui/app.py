@@ -11,22 +11,32 @@ are written from any view (:mod:`trayadvisor.tui.reports`).
 from __future__ import annotations
 
 import os
+import time
 from dataclasses import replace
 
 from textual import on, work
 from textual.app import App
 from textual.binding import Binding
 from textual.message import Message
-from textual.worker import get_current_worker
+from textual.timer import Timer
+from textual.worker import Worker, WorkerState, get_current_worker
 
-from trayadvisor.analysis import FieldSummary, LimitFigure
+from trayadvisor.analysis import FieldSummary, LimitFigure, PlateComparison
 from trayadvisor.layoutfile import demo_path, read_layout
 from trayadvisor.model import Layout, Limit
 from trayadvisor.output import CAUTION_LINE
 from trayadvisor.tui.files import FileCommands
-from trayadvisor.tui.logic.compute import Failed, LimitDone, Result, SummaryDone, run_analysis
+from trayadvisor.tui.logic.compute import (
+    CompareDone,
+    Failed,
+    LimitDone,
+    Result,
+    SummaryDone,
+    run_analysis,
+)
 from trayadvisor.tui.logic.document import Document
 from trayadvisor.tui.logic.keymap import KeymapError, default_keymap_path, load_keymap
+from trayadvisor.tui.logic.platetext import working_text
 from trayadvisor.tui.logic.settings import (
     TYPED_LIMIT,
     ViewSettings,
@@ -41,6 +51,13 @@ from trayadvisor.tui.views import VIEWS, ViewSpec
 
 AnalysisKey = tuple[int, int, float, tuple[Limit, ...]]
 
+#: Worker groups that compute field figures of the model on show (the plates are solved in
+#: them): while one runs, the message line says so for a layout with plates.
+FIELD_GROUPS = frozenset({"analysis", "limits", "map", "coupling"})
+#: The notice appears only once the work has lasted this long (s): quick figures (a move
+#: that reuses the solved plates) do not make the message line flicker.
+BUSY_AFTER_S = 0.3
+
 
 class Computed(Message):
     """One stage of the field worker's results for the model identified by ``key``."""
@@ -54,8 +71,9 @@ class Computed(Message):
         if not isinstance(message, Computed):
             return False
         a, b = self.result, message.result
-        if isinstance(a, SummaryDone) and isinstance(b, SummaryDone):
-            return True
+        for kind in (SummaryDone, CompareDone):
+            if isinstance(a, kind) and isinstance(b, kind):
+                return True
         return (isinstance(a, LimitDone) and isinstance(b, LimitDone)
                 and a.figure.name == b.figure.name)
 
@@ -109,6 +127,15 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         self.summary_key: AnalysisKey | None = None
         self.figures: dict[str, LimitFigure] = {}
         self.figure_keys: dict[str, AnalysisKey] = {}
+        #: The with / without plates comparison (key ``w`` of the Field view): asked for,
+        #: the latest one computed and the model it is for.
+        self.compare_plates = False
+        self.comparison: PlateComparison | None = None
+        self.comparison_key: AnalysisKey | None = None
+        #: The message line's notice while field workers run (see :meth:`refresh_busy`).
+        self.busy = ""
+        self._busy_since: float | None = None
+        self._busy_timer: Timer | None = None
         self.problems: list[str] = []
         self.message: tuple[str, str] = (note or CAUTION_LINE, "warning" if note else "info")
         self._keymap_overrides = keymap or {}
@@ -120,9 +147,12 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
 
     # -- state the views read ---------------------------------------------------------------
     def current_view(self) -> WorkScreen | None:
-        """The view being shown (under any dialog)."""
+        """The view being shown (under any dialog); None while a view just switched to is
+        not mounted yet (a key typed before the switch may still be handled after it: the
+        view draws everything from the app's state when it mounts)."""
         stack = self.screen_stack
-        return stack[0] if stack and isinstance(stack[0], WorkScreen) else None
+        view = stack[0] if stack and isinstance(stack[0], WorkScreen) else None
+        return view if view is not None and view.is_mounted else None
 
     def analysis_key(self) -> AnalysisKey:
         return (self.document_serial, self.document.generation, self.settings.distance_mm,
@@ -137,6 +167,10 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         fig = self.figures.get(limit.name)
         level = limit_level_uT(limit, self.document.layout.frequency_hz)
         return fig if fig is not None and fig.limit_uT == level else None
+
+    def comparison_pending(self) -> bool:
+        """True while the comparison on show (if any) is older than the model and settings."""
+        return self.comparison_key != self.analysis_key()
 
     def results_pending(self) -> bool:
         """True while the figures on show are older than the model and settings."""
@@ -195,7 +229,27 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         lim = self.chosen_limit()
         self._analyse(self.analysis_key(), self.document.layout, self.settings.distance_mm,
                       [lim] if lim is not None else [], summary=True,
-                      currents=self.settings.currents)
+                      currents=self.settings.currents, compare=self.compare_plates)
+
+    def set_compare_plates(self, on: bool) -> None:
+        """Ask for (or stop) the with / without plates comparison. When the summary on show
+        is current, only the comparison (and a limit figure still missing) is computed, from
+        that summary; otherwise the whole analysis restarts with it."""
+        self.compare_plates = on
+        key = self.analysis_key()
+        if on and self.comparison_key != key:
+            if self.summary is not None and self.summary_key == key:
+                lim = self.chosen_limit()
+                todo = ([lim] if lim is not None and self.figure_keys.get(lim.name) != key
+                        else [])
+                self._analyse(key, self.document.layout, self.settings.distance_mm, todo,
+                              summary=False, currents=self.settings.currents, compare=True,
+                              known=self.summary)
+            else:
+                self.request_analysis()
+        view = self.current_view()
+        if view is not None:
+            view.results_changed()
 
     def request_all_limits(self) -> None:
         """Compute the verdict and clearance of every offered limit not yet known."""
@@ -207,12 +261,13 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
 
     @work(thread=True, exclusive=True, group="analysis", exit_on_error=False)
     def _analyse(self, key: AnalysisKey, layout: Layout, distance_mm: float,
-                 limits: list[Limit], summary: bool = True, currents: str = "solved") -> None:
+                 limits: list[Limit], summary: bool = True, currents: str = "solved",
+                 compare: bool = False, known: FieldSummary | None = None) -> None:
         worker = get_current_worker()
         run_analysis(layout, distance_mm, limits,
                      emit=lambda r: self.post_message(Computed(key, r)),
                      cancelled=lambda: worker.is_cancelled, summary=summary,
-                     currents=currents)
+                     currents=currents, compare=compare, known=known)
 
     @work(thread=True, exclusive=True, group="limits", exit_on_error=False)
     def _limits_worker(self, key: AnalysisKey, layout: Layout, distance_mm: float,
@@ -234,6 +289,8 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
         view = self.current_view()
         if isinstance(r, SummaryDone):
             self.summary, self.summary_key = r.summary, event.key
+        elif isinstance(r, CompareDone):
+            self.comparison, self.comparison_key = r.comparison, event.key
         else:
             self.figures[r.figure.name] = r.figure
             self.figure_keys[r.figure.name] = event.key
@@ -245,6 +302,40 @@ class TrayApp(FileCommands, ReportCommands, App[None]):
                 return
         if view is not None:
             view.results_changed()
+
+    # -- the notice while the plates are solved ----------------------------------------------
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        self.refresh_busy()
+
+    def field_work_running(self) -> bool:
+        """True while a worker computes field figures of the model (not cancelled ones)."""
+        return any(w.group in FIELD_GROUPS and w.state in (WorkerState.PENDING,
+                                                            WorkerState.RUNNING)
+                   for w in self.workers)
+
+    def refresh_busy(self) -> None:
+        """Set the message line's notice: "solving the plates (finite elements)…" once field
+        work on a layout with plates has lasted :data:`BUSY_AFTER_S`, nothing otherwise.
+        Called when a worker starts or ends (the views forward their workers' changes)."""
+        running = self.field_work_running()
+        now = time.monotonic()
+        if not running:
+            self._busy_since = None
+        elif self._busy_since is None:
+            self._busy_since = now
+        waited = now - self._busy_since if self._busy_since is not None else 0.0
+        shown = running and waited >= BUSY_AFTER_S
+        if self._busy_timer is not None:
+            self._busy_timer.stop()
+            self._busy_timer = None
+        if running and not shown:
+            self._busy_timer = self.set_timer(BUSY_AFTER_S - waited + 0.01, self.refresh_busy)
+        text = working_text(bool(self.document.layout.all_plates()), shown)
+        if text != self.busy:
+            self.busy = text
+            view = self.current_view()
+            if view is not None:
+                view.update_bars()
 
     def current_figures(self) -> dict[str, LimitFigure]:
         """Limit figures computed for the model and settings on show."""

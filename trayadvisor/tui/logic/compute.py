@@ -1,10 +1,10 @@
 """The field work the views need, as plain functions a worker thread runs.
 
 Every figure comes from the same calls the CLI makes
-(:func:`trayadvisor.analysis.field_summary` and :func:`trayadvisor.engine.field_grid_uT`),
-so the UI and the CLI cannot disagree. Results go out through ``emit`` one stage at a
-time, the cheap ones first, and the work stops between stages once ``cancelled()`` says a
-newer request exists.
+(:func:`trayadvisor.analysis.field_summary`, :func:`trayadvisor.analysis.compare_summaries`
+and :func:`trayadvisor.engine.field_grid_uT`), so the UI and the CLI cannot disagree.
+Results go out through ``emit`` one stage at a time, the cheap ones first, and the work
+stops between stages once ``cancelled()`` says a newer request exists.
 No textual here.
 """
 
@@ -15,7 +15,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trayadvisor.analysis import FieldSummary, LimitFigure, field_summary
+from trayadvisor.analysis import (
+    FieldSummary,
+    LimitFigure,
+    PlateComparison,
+    compare_summaries,
+    field_summary,
+)
 from trayadvisor.coupling import SharingError, carried_sources
 from trayadvisor.engine import field_grid_uT
 from trayadvisor.limits import resolve_limit
@@ -28,6 +34,13 @@ class SummaryDone:
     """Stray field at d, its peak, far-field order and the curve (no limits yet)."""
 
     summary: FieldSummary
+
+
+@dataclass(frozen=True)
+class CompareDone:
+    """The field with and without the plates, on the curve at d and at every place."""
+
+    comparison: PlateComparison
 
 
 @dataclass(frozen=True)
@@ -44,31 +57,44 @@ class Failed:
     message: str
 
 
-Result = SummaryDone | LimitDone | Failed
+Result = SummaryDone | CompareDone | LimitDone | Failed
 
 
 def run_analysis(layout: Layout, distance_mm: float, limits: Sequence[Limit],
                  emit: Callable[[Result], object],
                  cancelled: Callable[[], bool] = lambda: False, summary: bool = True,
-                 currents: str = "solved") -> None:
+                 currents: str = "solved", compare: bool = False,
+                 known: FieldSummary | None = None) -> None:
     """Compute the readouts of one layout in stages.
 
     1. With ``summary``: ``field_summary(layout, distance_mm=d, currents=…)`` with the
        layout's limits bound to places only (judged at their places: ``summary.places``;
-       milliseconds), emitted as SummaryDone.
-    2. For each limit in ``limits``, ``field_summary`` with just that limit on the curve at
+       milliseconds without plates, seconds for the first solve of new plates), emitted as
+       SummaryDone.
+    2. With ``compare`` and a layout with plates: the same call with
+       ``Layout.without_metal`` (no plate solve: milliseconds), paired with the summary of
+       stage 1 (or ``known``, the current one, when stage 1 is skipped) by
+       ``compare_summaries``: one CompareDone.
+    3. For each limit in ``limits``, ``field_summary`` with just that limit on the curve at
        d, which adds its clearance search (tens of ms each): one LimitDone each. The Limit
        itself is passed, so a library entry is judged by its own rule (the multi-frequency
        sum for exposure levels, the static field for the DC band).
     """
     base = replace(layout, limits=())
+    bound = replace(layout, limits=place_bound(layout))
     try:
+        result = known
         if summary:
-            result = field_summary(replace(layout, limits=place_bound(layout)),
-                                   distance_mm=distance_mm, currents=currents)
+            result = field_summary(bound, distance_mm=distance_mm, currents=currents)
             if cancelled():
                 return
             emit(SummaryDone(result))
+        if compare and result is not None and layout.all_plates():
+            bare = field_summary(replace(bound, without_metal=True), distance_mm=distance_mm,
+                                 currents=currents)
+            if cancelled():
+                return
+            emit(CompareDone(compare_summaries(result, bare)))
         for lim in limits:
             if cancelled():
                 return

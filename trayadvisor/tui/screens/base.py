@@ -20,6 +20,7 @@ from textual.containers import Horizontal
 from textual.css.query import NoMatches
 from textual.screen import Screen
 from textual.widgets import Footer
+from textual.worker import Worker
 
 from trayadvisor.tui.logic.settings import ViewSettings
 from trayadvisor.tui.screens.forms import SettingsForm
@@ -56,6 +57,11 @@ class WorkScreen(Screen[None]):
     def on_screen_resume(self) -> None:
         if self.is_mounted:
             self.refresh_view()
+
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        """A view's own worker (the map, the coupling figures) started or ended: the app's
+        notice while the plates are solved follows it."""
+        self.tapp.refresh_busy()
 
     # -- hooks the app calls ----------------------------------------------------------------
     def refresh_view(self) -> None:
@@ -94,6 +100,6 @@ class WorkScreen(Screen[None]):
             self.query_one(ViewBar).show(views, self.VIEW_NAME, doc.label, doc.dirty,
                                          f"d {s.distance_mm:g} mm")
             message, level = app.message
-            self.query_one(StatusLine).show(message, app.problems, level)
+            self.query_one(StatusLine).show(message, app.problems, level, app.busy)
         except NoMatches:  # not composed yet
             return

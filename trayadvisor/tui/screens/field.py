@@ -1,6 +1,10 @@
 """The Field view: a heat map of the resultant field around the tray, the contour at d, the
 readouts and the legend. The map grid is computed in a worker thread for exactly the
-canvas window; while a new one is on its way the last one is shown, resampled."""
+canvas window; while a new one is on its way the last one is shown, resampled.
+
+Beside the readouts the side shows the map legend, or (``v``) every place with its limits,
+or (``w``) the field with and without the plates and the shielding factor, computed by the
+app's readouts worker."""
 
 from __future__ import annotations
 
@@ -18,11 +22,18 @@ from trayadvisor.model import Layout
 from trayadvisor.tui.logic.compute import map_grid
 from trayadvisor.tui.logic.mapscale import MapScale
 from trayadvisor.tui.logic.placetext import place_lines
+from trayadvisor.tui.logic.platetext import NOTHING_TO_COMPARE, comparison_lines
 from trayadvisor.tui.logic.scene import FieldMap
 from trayadvisor.tui.logic.viewport import Viewport
 from trayadvisor.tui.screens.editing import EditingScreen
 from trayadvisor.tui.widgets.canvas import CanvasContent, SectionCanvas
-from trayadvisor.tui.widgets.panels import FieldReadout, MapLegend, PanelScroll, PlacesPanel
+from trayadvisor.tui.widgets.panels import (
+    ComparePanel,
+    FieldReadout,
+    MapLegend,
+    PanelScroll,
+    PlacesPanel,
+)
 
 
 @dataclass(frozen=True)
@@ -40,7 +51,9 @@ class FieldScreen(EditingScreen):
     BINDINGS = [Binding("m", "map_style", "Map style", show=False, id="map.style",
                 tooltip="map: colour, or shading + iso digits"),
                 Binding("v", "toggle_places", "Places panel", show=False, id="field.places",
-                        tooltip="side: the map legend, or every place with its limits")]
+                        tooltip="side: the map legend, or every place with its limits"),
+                Binding("w", "compare_plates", "Shield", id="field.compare",
+                        tooltip="with / without plates: shielding factor")]
 
     class GridReady(Message):
         def __init__(self, key: _GridKey, values: np.ndarray) -> None:
@@ -64,6 +77,8 @@ class FieldScreen(EditingScreen):
             yield MapLegend(id="legend")
             with PanelScroll(id="places-scroll", can_focus=False):
                 yield PlacesPanel(id="places")
+            with PanelScroll(id="compare-scroll", can_focus=False):
+                yield ComparePanel(id="compare")
 
     def on_mount(self) -> None:
         super().on_mount()
@@ -107,11 +122,47 @@ class FieldScreen(EditingScreen):
                                        plates=bool(app.document.layout.all_plates()))
         self.query_one(PlacesPanel).show(place_lines(app.summary, app.document.layout,
                                                      app.summary_key != app.analysis_key()))
+        self._show_comparison()
+
+    def _show_comparison(self) -> None:
+        """The with / without plates panel, shown while the comparison is asked for (w)."""
+        app = self.tapp
+        show = app.compare_plates
+        self.set_class(show, "show-compare")
+        scroll = self.query_one("#compare-scroll", PanelScroll)
+        scroll.can_focus = show
+        if not show:
+            if self.focused is scroll:
+                self.set_focus(self.query_one(SectionCanvas))
+            return
+        c, key = app.comparison, app.comparison_key
+        if key is None or key[0] != app.document_serial:  # none yet, or another file's
+            c = None
+        self.query_one(ComparePanel).show(comparison_lines(
+            c, bool(app.document.layout.all_plates()), app.comparison_pending()))
+
+    def action_compare_plates(self) -> None:
+        """Show the field with and without the plates and the shielding factor beside the
+        map (in place of the legend or the places panel; the drawing keeps the focus, so
+        the figures follow every move), or the legend again. A layout without plates has
+        nothing to compare: the message line says so."""
+        app = self.tapp
+        if app.compare_plates:
+            app.set_compare_plates(False)
+            return
+        if not app.document.layout.all_plates():
+            app.set_status(NOTHING_TO_COMPARE, "warning")
+            return
+        if self.has_class("show-places"):
+            self.action_toggle_places()
+        app.set_compare_plates(True)
 
     def action_toggle_places(self) -> None:
         """Show every place with its limits beside the map (wider side, focused: ↑↓ scroll,
         Tab back to the drawing), or the legend (the drawing focused)."""
         show = not self.has_class("show-places")
+        if show and self.tapp.compare_plates:
+            self.tapp.set_compare_plates(False)
         self.set_class(show, "show-places")
         # The panel is always laid out (height 0 when hidden), so ↑↓ typed right after v
         # scroll it; it takes the focus at once, so they reach it.

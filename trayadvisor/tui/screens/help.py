@@ -11,6 +11,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
 from trayadvisor.output import CAUTION_LINE, CAUTIONS
+from trayadvisor.tui.logic.platetext import DB_MEANING, FACTOR_MEANING, SOLVING
 from trayadvisor.tui.screens.dialogs import Dialog
 
 GLYPHS = (
@@ -89,7 +90,21 @@ class HelpScreen(Dialog[None]):
                  "edits it too.\n"
                  "  In the Field view, v shows every place with its AC and DC maxima and "
                  "each bound limit's kind, index, margin and pass/FAIL (↑↓ scroll it, Tab "
-                 "back to the drawing).\n\n")
+                 "back to the drawing).\n"
+                 "  In the Field view, w (with / without) shows, on the curve at d and at "
+                 "every place, the AC field with the plates and sheet trays and without "
+                 "them (every figure recomputed as if no metal were there, same envelope), "
+                 f"the shielding factor and its dB: {FACTOR_MEANING}; {DB_MEANING}. Above "
+                 "1 the metal makes the field there stronger (steel near the conductors can "
+                 "concentrate it). The drawing keeps the focus, so the figures follow every "
+                 "move; w again shows the legend. A layout without plates has nothing to "
+                 "compare: the message line says so. The readouts add the eddy-current "
+                 "loss of each conducting body (W/m; plates bonded together are one body). "
+                 "The first figures after the plates change take seconds (a finite-element "
+                 f"solve): meanwhile the message line says \"{SOLVING}\" and the keys keep "
+                 "working. The metal data are typical and "
+                 "linear: check them against the actual sheet; a screen is no substitute for "
+                 "the local rules and licensed practice.\n\n")
         t.append("Drawing\n", style="bold")
         t.append(GLYPHS + "\n\n")
         t.append("Limits\n", style="bold")

@@ -24,6 +24,7 @@ from trayadvisor.tui.logic.placetext import KIND_MEANING
 from trayadvisor.tui.logic.platetext import (
     MAGNETIC_GLYPH,
     OTHER_GLYPH,
+    loss_line,
     material_text,
     plate_glyph,
     sheet_text,
@@ -63,10 +64,15 @@ class ViewBar(Static):
 
 
 class StatusLine(Static):
-    """One line under the views: the last action's message, else the layout's problems."""
+    """One line under the views: the last action's message, else the layout's problems;
+    ``busy`` (the notice while the plates are solved) goes first."""
 
-    def show(self, message: str, problems: Sequence[str], level: str = "info") -> None:
+    def show(self, message: str, problems: Sequence[str], level: str = "info",
+             busy: str = "") -> None:
         t = Text(no_wrap=True, overflow="ellipsis")
+        if busy:
+            t.append(busy, style="bold")
+            t.append(" │ ")
         if message:
             mark = {"error": "✖ ", "warning": "! "}.get(level, "")
             t.append(mark + message, style="bold" if level != "info" else "")
@@ -211,7 +217,8 @@ def readout_lines(summary: FieldSummary | None, limit: Limit | None,
                   figure: LimitFigure | None, pending: bool,
                   frequency_hz: float = 50.0) -> list[tuple[str, str]]:
     """(text, style) lines of the field readouts; ``pending``: the figure is older than the
-    model (a newer one is being computed)."""
+    model (a newer one is being computed). A layout with plates gets a line of eddy-current
+    losses per conducting body."""
     if summary is None:
         return [("computing the field…", "")]
     s = summary
@@ -223,6 +230,9 @@ def readout_lines(summary: FieldSummary | None, limit: Limit | None,
               (f"Far field {order_text(s.far_field_order)}", ""),
               (f" {fmt_uT(s.far_field_uT_at_1m)} µT at 1 m (lead term)", ""),
               (currents_text(s), "")]
+    losses = loss_line(s, pending)
+    if losses is not None:
+        lines.append((losses, ""))
     if limit is None:
         lines.append(("No limit chosen (d sets one)", ""))
         return lines
@@ -314,7 +324,8 @@ class MapLegend(Static):
                 t.append(glyph, style=f"{fg} on {bg}")
                 t.append(words)
             t.append("\n")
-        t.append("◆ point ╌ line ┄ area\nv: places and their limits")
+        t.append("◆ point ╌ line ┄ area\n")
+        t.append("v: places · w: with/without" if plates else "v: places and their limits")
         self.update(t, layout=False)
 
 
@@ -350,6 +361,11 @@ class PlacesPanel(Static):
                 t.append("\n")
             t.append(line.text, style=_STYLES.get(line.kind, ""))
         self.update(t)
+
+
+class ComparePanel(PlacesPanel):
+    """The field with and without the plates and the shielding factor at d and at every
+    place: the lines of :func:`trayadvisor.tui.logic.platetext.comparison_lines`."""
 
 
 class PanelScroll(VerticalScroll):
