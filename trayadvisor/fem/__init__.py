@@ -8,6 +8,8 @@
 - :mod:`~trayadvisor.fem.solver` — the time-harmonic vector potential of the plates'
   *reaction* to line currents, by P2 elements (scikit-fem) and one sparse LU factorisation
   per frequency, reused for every source.
+- :mod:`~trayadvisor.fem.probing` — point location in the mesh and the sparse matrices that
+  read a P2 function's value or gradient at any points.
 - :mod:`~trayadvisor.fem.reaction` — ``PlateReaction``: a layout's plates as the engine's
   ``Reaction`` (cached solvers per frequency, cached unit potentials per position): the
   field the plates add, the unit-field tables of the ranking, the reaction potentials of

@@ -147,6 +147,7 @@ class PlateReaction:
         self.near_h_m = near_h_m
         self._units: dict[float, OrderedDict[tuple[float, float], np.ndarray]] = {}
         self._combined: OrderedDict[tuple, np.ndarray] = OrderedDict()
+        self._lock = threading.RLock()
 
     def inside(self, pts_m: np.ndarray) -> np.ndarray:
         """(m,) bool: points strictly inside a plate."""
@@ -163,6 +164,11 @@ class PlateReaction:
     def _unit_potentials(self, xy_m: np.ndarray, frequency_hz: float) -> np.ndarray:
         """(N, n) reaction potential of 1 A at each centre; new centres in one solve."""
         solver = self.solver(frequency_hz)
+        with self._lock:  # the UI's workers share the caches
+            return self._cached_units(solver, xy_m, frequency_hz)
+
+    def _cached_units(self, solver: PlateSolver, xy_m: np.ndarray, frequency_hz: float
+                      ) -> np.ndarray:
         cache = self._units.setdefault(float(frequency_hz), OrderedDict())
         keys = [(float(x), float(y)) for x, y in np.asarray(xy_m, float).reshape(-1, 2)]
         new = [k for k in dict.fromkeys(keys) if k not in cache]
@@ -189,14 +195,15 @@ class PlateReaction:
             if not np.any(cur[h]):
                 continue
             key = (float(f), xy.tobytes(), np.ascontiguousarray(cur[h]).tobytes())
-            a = self._combined.get(key)
-            if a is None:
-                a = self._unit_potentials(xy, f) @ cur[h]
-                self._combined[key] = a
-                while len(self._combined) > _COMBINED_KEPT:
-                    self._combined.popitem(last=False)
-            else:
-                self._combined.move_to_end(key)
+            with self._lock:
+                a = self._combined.get(key)
+                if a is None:
+                    a = self._unit_potentials(xy, f) @ cur[h]
+                    self._combined[key] = a
+                    while len(self._combined) > _COMBINED_KEPT:
+                        self._combined.popitem(last=False)
+                else:
+                    self._combined.move_to_end(key)
             out[h] = self.solver(f).reaction_field(a[:, None], pts)[0]
         return out
 

@@ -35,6 +35,7 @@ Electrical Engineers*, 3rd ed., 1996 (from memory).
 from __future__ import annotations
 
 import math
+import threading
 from dataclasses import dataclass
 
 import numpy as np
@@ -42,6 +43,7 @@ import numpy as np
 from trayadvisor.engine.units import MU0
 from trayadvisor.fem.materials import skin_depth_m
 from trayadvisor.fem.mesh import PlateMesh, build_mesh
+from trayadvisor.fem.probing import PointProbe
 
 _K = MU0 / (2.0 * math.pi)
 #: Largest length-to-thickness ratio of the cells of a plate's structured layers.
@@ -194,7 +196,8 @@ class PlateSolver:
         # default (at 650 Hz in a steel tray: 0.4 s against 20 s; bench/bench_plates.py)
         self._lu = splu(csc_matrix(full), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                         options={"SymmetricMode": True})
-        self._tree = None
+        self.probe = PointProbe(self.mesh, self.basis)
+        self._solve_lock = threading.RLock()  # ``reaction`` leaves the bodies' c in _c
 
     @staticmethod
     def _plate_row(pb, sig: np.ndarray) -> np.ndarray:  # noqa: ANN001
@@ -248,6 +251,10 @@ class PlateSolver:
         """A_r at every dof, (N, c): one column per source of 1 A, or (with ``weights``, a
         real (k, c) array) one column per weighted combination of the sources, assembled
         as one load with scikit-fem's forms (an independent path: superposition check)."""
+        with self._solve_lock:
+            return self._reaction(xy_src_m, weights)
+
+    def _reaction(self, xy_src_m: np.ndarray, weights: np.ndarray | None) -> np.ndarray:
         from skfem import LinearForm, asm
         from skfem.helpers import grad
 
@@ -321,9 +328,10 @@ class PlateSolver:
                 p.sigma > 0 for p in self.plates):
             return out
         xy = np.asarray(xy_src_m, dtype=float).reshape(-1, 2)
-        a = self.reaction(xy, weights=np.column_stack([cur.real, cur.imag]))
+        with self._solve_lock:
+            a = self.reaction(xy, weights=np.column_stack([cur.real, cur.imag]))
+            c = self._c[:, 0] + 1j * self._c[:, 1] if self._c.size else np.zeros(0)
         a_r = a[:, 0] + 1j * a[:, 1]
-        c = self._c[:, 0] + 1j * self._c[:, 1] if self._c.size else np.zeros(0)
 
         @Functional
         def joule(w):
@@ -342,82 +350,17 @@ class PlateSolver:
         return out
 
     def locate(self, pts_m: np.ndarray) -> np.ndarray:
-        """The triangle holding each point (m, 2), or −1 outside the meshed disc.
-
-        A k-d tree of the triangles' centroids gives a few candidates per point; their
-        barycentric coordinates decide (more candidates for the few points left over).
-        """
-        from scipy.spatial import cKDTree
-
-        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
-        p, t = self.mesh.p, self.mesh.t
-        if self._tree is None:
-            self._tree = cKDTree(p[:, t].mean(axis=1).T)
-            e1 = p[:, t[1]] - p[:, t[0]]
-            e2 = p[:, t[2]] - p[:, t[0]]
-            det = e1[0] * e2[1] - e1[1] * e2[0]
-            self._inv = np.stack([[e2[1] / det, -e2[0] / det],
-                                  [-e1[1] / det, e1[0] / det]])  # (2, 2, T)
-        out = np.full(pts.shape[0], -1, dtype=np.int64)
-        cx, cy = self.mesh.centre_m
-        inside = np.hypot(pts[:, 0] - cx, pts[:, 1] - cy) < self.mesh.radius_m * (1 - 1e-9)
-        todo = np.flatnonzero(inside)
-        ntri = t.shape[1]
-        for k in (8, 32, 128, ntri):
-            if todo.size == 0:
-                break
-            kk = min(k, ntri)
-            _, cand = self._tree.query(pts[todo], kk)
-            cand = np.asarray(cand).reshape(todo.size, kk)
-            d = pts[todo][:, None, :] - p[:, t[0]].T[cand]  # (q, k, 2)
-            inv = self._inv[:, :, cand]  # (2, 2, q, k)
-            lam1 = inv[0, 0] * d[..., 0] + inv[0, 1] * d[..., 1]
-            lam2 = inv[1, 0] * d[..., 0] + inv[1, 1] * d[..., 1]
-            tol = -1e-10
-            ok = (lam1 >= tol) & (lam2 >= tol) & (1.0 - lam1 - lam2 >= tol)
-            hit = ok.any(axis=1)
-            out[todo[hit]] = cand[hit, ok[hit].argmax(axis=1)]
-            todo = todo[~hit]
-        return out
-
-    def gradient_probes(self, pts_m: np.ndarray):  # noqa: ANN201
-        """Sparse (m, N) matrices of ∂/∂x and ∂/∂y of a P2 function at each point; zero rows
-        outside the meshed disc."""
-        from scipy.sparse import coo_matrix
-
-        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
-        cells = self.locate(pts)
-        use = np.flatnonzero(cells >= 0)
-        b = self.basis
-        shape = (pts.shape[0], b.N)
-        if use.size == 0:
-            empty = coo_matrix(shape).tocsr()
-            return empty, empty
-        ref = b.mapping.invF(pts[use].T[:, :, None], tind=cells[use])
-        grads = np.array([b.elem.gbasis(b.mapping, ref, k, tind=cells[use])[0].grad
-                          for k in range(b.Nbfun)]).reshape(b.Nbfun, 2, -1)
-        rows = np.tile(use, b.Nbfun)
-        cols = b.element_dofs[:, cells[use]].reshape(-1)
-        return tuple(coo_matrix((grads[:, c].reshape(-1), (rows, cols)), shape=shape).tocsr()
-                     for c in range(2))
+        """The triangle holding each point, −1 outside (:class:`~trayadvisor.fem.probing.
+        PointProbe`)."""
+        return self.probe.locate(pts_m)
 
     def probes(self, pts_m: np.ndarray):  # noqa: ANN201
-        """Sparse (m, N) matrix: the value of a P2 function at each point (m, 2); rows of
-        points outside the meshed disc are zero (the reaction is taken as 0 there)."""
-        from scipy.sparse import coo_matrix
+        """Sparse (m, N): a P2 function's value at each point (zero rows outside)."""
+        return self.probe.values(pts_m)
 
-        pts = np.asarray(pts_m, dtype=float).reshape(-1, 2)
-        cells = self.locate(pts)
-        use = np.flatnonzero(cells >= 0)
-        b = self.basis
-        if use.size == 0:
-            return coo_matrix((pts.shape[0], b.N)).tocsr()
-        ref = b.mapping.invF(pts[use].T[:, :, None], tind=cells[use])
-        phis = np.array([b.elem.gbasis(b.mapping, ref, k, tind=cells[use])[0]
-                         for k in range(b.Nbfun)]).reshape(b.Nbfun, -1)
-        rows = np.tile(use, b.Nbfun)
-        cols = b.element_dofs[:, cells[use]].reshape(-1)
-        return coo_matrix((phis.reshape(-1), (rows, cols)), shape=(pts.shape[0], b.N)).tocsr()
+    def gradient_probes(self, pts_m: np.ndarray):  # noqa: ANN201
+        """Sparse (m, N) matrices of ∂/∂x and ∂/∂y at each point (zero rows outside)."""
+        return self.probe.gradients(pts_m)
 
     def field(self, xy_src_m: np.ndarray, pts_m: np.ndarray) -> np.ndarray:
         """Total B per ampere of each source, (k, m, 2) complex: free space + reaction."""
