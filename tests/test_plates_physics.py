@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from trayadvisor.analysis import field_summary, plate_comparison
-from trayadvisor.coupling import induced_emf, plate_sources, solve_sharing
+from trayadvisor.coupling import coupling_summary, induced_emf, plate_sources, solve_sharing
 from trayadvisor.engine import layout_sources
 from trayadvisor.model import Circuit, Conductor, Layout, ObservationPoint, Plate, Tray
 from trayadvisor.ranking import rank_layout
@@ -109,6 +109,10 @@ def test_loop_inductance_above_a_permeable_slab_is_the_image_method():
     d_mutual = math.hypot(0.04, 0.12)
     want = K * KAPPA * 2 * math.log(d_mutual / d_self)
     assert added == pytest.approx(want, rel=5e-3)
+    # the loop matrix `couple` reports carries the same addition
+    with_slab = coupling_summary(lay).mutual_H_per_m[0, 0]
+    free = coupling_summary(_pair_layout()).mutual_H_per_m[0, 0]
+    assert with_slab - free == pytest.approx(want, rel=5e-3)
 
 
 def _aluminium_under_pair() -> Layout:

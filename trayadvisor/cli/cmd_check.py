@@ -6,6 +6,7 @@ import argparse
 from collections import Counter
 
 from trayadvisor.cli.common import load
+from trayadvisor.output import plain
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -18,8 +19,12 @@ def run(args: argparse.Namespace) -> int:
     layout = load(args.file)
     systems = Counter(c.system for c in layout.circuits)
     kinds = ", ".join(f"{n} {s}" for s, n in sorted(systems.items()))
+    plates = layout.all_plates()
+    metal = (f", {len(plates)} plate(s) ({len(layout.plates)} [[plate]], "
+             f"{sum(1 for t in layout.trays if t.sheet)} sheet tray(s))" if plates else "")
     print(
-        f"{args.file}: ok: {len(layout.trays)} tray(s), {len(layout.circuits)} circuit(s) "
-        f"({kinds}), {len(layout.conductors)} conductor(s), {layout.frequency_hz:g} Hz"
+        f"{plain(args.file)}: ok: {len(layout.trays)} tray(s), {len(layout.circuits)} "
+        f"circuit(s) ({kinds}), {len(layout.conductors)} conductor(s){metal}, "
+        f"{layout.frequency_hz:g} Hz"
     )
     return 0

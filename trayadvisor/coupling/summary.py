@@ -10,7 +10,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from trayadvisor.coupling.inductance import loop_inductance_matrix
+from trayadvisor.coupling.inductance import layout_loops, loop_inductance_matrix
 from trayadvisor.coupling.sharing import (
     DEFAULT_TEMPERATURE_C,
     SharingResult,
@@ -104,6 +104,13 @@ def coupling_summary(layout: Layout, length_m: float | None = None, currents: st
     victims = induced_emf(layout, length_m, src, earth_y_mm)
     names, m = loop_inductance_matrix(layout)
     notes = shares.notes()
+    if src.reaction is not None and names:
+        # the plates' addition at the fundamental: the inductive (real) part of W P Wᵀ
+        weights = layout_loops(layout).weights
+        pot = src.reaction.potentials(src.xy_m, np.array([float(layout.frequency_hz)]))[0]
+        m = m + (weights @ pot.real @ weights.T)
+        notes.append("loop inductances include the plates at the fundamental (their "
+                     "inductive part; the plates' losses act as resistance in the sharing)")
     if not solved and shares.groups:
         notes.append("victim EMF with equal shares between parallel conductors (the sharing "
                      "table is the solved one)")
