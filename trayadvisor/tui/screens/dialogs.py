@@ -16,6 +16,8 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, OptionList, Static
 from textual.widgets.option_list import Option
 
+from trayadvisor.model import Layout
+
 R = TypeVar("R")
 
 
@@ -30,6 +32,44 @@ class Dialog(ModalScreen[R]):
             return AwaitComplete()
         self._answered = True
         return super().dismiss(result)
+
+
+class RowMenu(Dialog[str | None]):
+    """A list of rows of a layout, one picked with Enter (the result is its option id),
+    Escape closes (None). Subclasses give ``HEADING``, ``LIST_ID`` and ``rows``."""
+
+    HEADING = ""
+    LIST_ID = "menu-rows"
+
+    def __init__(self, layout: Layout, highlight: str | None = None) -> None:
+        super().__init__()
+        self.lay, self.highlight = layout, highlight
+
+    @staticmethod
+    def rows(layout: Layout) -> list[tuple[str, str]]:
+        """(option id, text) of every row."""
+        raise NotImplementedError
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog places-menu"):
+            yield Static(self.HEADING, classes="form-title")
+            yield OptionList(*[Option(text, id=oid) for oid, text in self.rows(self.lay)],
+                             id=self.LIST_ID, markup=False)
+            yield Static("↑↓ pick · Enter opens · Esc closes", classes="hint")
+
+    def on_mount(self) -> None:
+        rows = self.query_one(f"#{self.LIST_ID}", OptionList)
+        ids = [oid for oid, _ in self.rows(self.lay)]
+        if self.highlight in ids:
+            rows.highlighted = ids.index(self.highlight)
+        rows.focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)
+
+    def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
+        if event.option_list.id == self.LIST_ID:
+            self.dismiss(event.option.id)
 
 
 class ConfirmDialog(Dialog[bool]):

@@ -152,6 +152,17 @@ class CircuitForm(FormScreen[Circuit | str | None]):
                        screen_bonding=self.choice("bonding"))
 
 
+def _rectangle(name: str, x: float, y: float, width: float, height: float,
+               labels: tuple[str, str, str]) -> Iterable[tuple[str, Widget]]:
+    """Name, lower-left corner and size: the first rows of the tray and plate forms
+    (``labels``: the y row's label, the height row's label and its id)."""
+    yield "Name", Input(name, id="name", compact=True)
+    yield "x mm (left)", Input(_text(x), id="x", compact=True)
+    yield labels[0], Input(_text(y), id="y", compact=True)
+    yield "Width mm", Input(_text(width), id="width", compact=True)
+    yield labels[1], Input(_text(height), id=labels[2], compact=True)
+
+
 class TrayForm(FormScreen[Tray | str | None]):
     """A tray's inner cross-section (lower-left corner, width and depth) and, for a solid
     sheet tray, the sheet's material and thickness and whether it has a cover."""
@@ -163,11 +174,8 @@ class TrayForm(FormScreen[Tray | str | None]):
 
     def fields(self) -> Iterable[tuple[str, Widget]]:
         t = self.tray
-        yield "Name", Input(t.name, id="name", compact=True)
-        yield "x mm (left)", Input(_text(t.x_mm), id="x", compact=True)
-        yield "y mm (floor)", Input(_text(t.y_mm), id="y", compact=True)
-        yield "Width mm", Input(_text(t.width_mm), id="width", compact=True)
-        yield "Depth mm", Input(_text(t.depth_mm), id="depth", compact=True)
+        yield from _rectangle(t.name, t.x_mm, t.y_mm, t.width_mm, t.depth_mm,
+                              ("y mm (floor)", "Depth mm", "depth"))
         yield "Sheet (solid tray)", _select("sheet", PLATE_MATERIAL_NAMES, t.sheet,
                                             blank="(none: ladder, mesh)", keep=True)
         yield "Sheet mm", Input(_text(t.sheet_mm), id="sheet-mm", compact=True,
@@ -206,11 +214,8 @@ class PlateForm(FormScreen[Plate | str | None]):
 
     def fields(self) -> Iterable[tuple[str, Widget]]:
         p = self.plate
-        yield "Name", Input(p.name, id="name", compact=True)
-        yield "x mm (left)", Input(_text(p.x_mm), id="x", compact=True)
-        yield "y mm (bottom)", Input(_text(p.y_mm), id="y", compact=True)
-        yield "Width mm", Input(_text(p.width_mm), id="width", compact=True)
-        yield "Height mm", Input(_text(p.height_mm), id="height", compact=True)
+        yield from _rectangle(p.name, p.x_mm, p.y_mm, p.width_mm, p.height_mm,
+                              ("y mm (bottom)", "Height mm", "height"))
         yield "Material", _select("material", PLATE_MATERIAL_NAMES, p.material,
                                   blank="(μr and σ below)", keep=True)
         yield "μr (opt.)", Input(_text(p.mu_r), id="mu", compact=True,

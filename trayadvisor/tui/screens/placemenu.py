@@ -12,17 +12,12 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import TYPE_CHECKING, Any, cast
 
-from textual import on
-from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Vertical
-from textual.widgets import OptionList, Static
-from textual.widgets.option_list import Option
 
 from trayadvisor.model import Layout
 from trayadvisor.tui.logic import placeedits
 from trayadvisor.tui.logic.placetext import menu_rows
-from trayadvisor.tui.screens.dialogs import Dialog
+from trayadvisor.tui.screens.dialogs import RowMenu
 from trayadvisor.tui.screens.forms import FormScreen
 from trayadvisor.tui.screens.placeforms import AreaForm, LayoutForm, LimitForm, LineForm, PointForm
 
@@ -37,36 +32,14 @@ _PROPOSALS: dict[str, Callable[[Layout], Any]] = {
     "area": placeedits.new_area, "limit": placeedits.new_limit}
 
 
-class PlacesMenu(Dialog[str | None]):
+class PlacesMenu(RowMenu):
     """Pick a row: the result is its option id (``kind:name``, ``add:kind``, ``layout:``)."""
 
     BINDINGS = [Binding("escape", "close", "Close", id="places.close")]
 
-    def __init__(self, layout: Layout, highlight: str | None = None) -> None:
-        super().__init__()
-        self.lay, self.highlight = layout, highlight
-
-    def compose(self) -> ComposeResult:
-        rows = menu_rows(self.lay)
-        with Vertical(classes="dialog places-menu"):
-            yield Static("Title, frequency, places and limits", classes="form-title")
-            yield OptionList(*[Option(text, id=oid) for oid, text in rows], id="place-rows",
-                             markup=False)
-            yield Static("↑↓ pick · Enter opens · Esc closes", classes="hint")
-
-    def on_mount(self) -> None:
-        rows = self.query_one("#place-rows", OptionList)
-        ids = [oid for oid, _ in menu_rows(self.lay)]
-        if self.highlight in ids:
-            rows.highlighted = ids.index(self.highlight)
-        rows.focus()
-
-    def action_close(self) -> None:
-        self.dismiss(None)
-
-    @on(OptionList.OptionSelected, "#place-rows")
-    def _picked(self, event: OptionList.OptionSelected) -> None:
-        self.dismiss(event.option.id)
+    HEADING = "Title, frequency, places and limits"
+    LIST_ID = "place-rows"
+    rows = staticmethod(menu_rows)
 
 
 class PlaceEditing:

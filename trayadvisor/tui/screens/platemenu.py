@@ -13,56 +13,28 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from textual import on
-from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Vertical
-from textual.widgets import OptionList, Static
-from textual.widgets.option_list import Option
 
 from trayadvisor.model import Layout, Plate, Tray
 from trayadvisor.tui.logic import edits
 from trayadvisor.tui.logic.placeedits import new_problem
 from trayadvisor.tui.logic.platetext import menu_rows
-from trayadvisor.tui.screens.dialogs import Dialog
+from trayadvisor.tui.screens.dialogs import RowMenu
 from trayadvisor.tui.screens.itemforms import PlateForm, TrayForm
 
 if TYPE_CHECKING:
     from trayadvisor.tui.app import TrayApp
 
 
-class PlatesMenu(Dialog[str | None]):
+class PlatesMenu(RowMenu):
     """Pick a row: the result is its option id (``plate:name``, ``tray:name``,
     ``add:plate``)."""
 
     BINDINGS = [Binding("escape", "close", "Close", id="plates.close")]
 
-    def __init__(self, layout: Layout, highlight: str | None = None) -> None:
-        super().__init__()
-        self.lay, self.highlight = layout, highlight
-
-    def compose(self) -> ComposeResult:
-        rows = menu_rows(self.lay)
-        with Vertical(classes="dialog places-menu"):
-            yield Static("Plates and sheet trays (# steel, = other metal)",
-                         classes="form-title")
-            yield OptionList(*[Option(text, id=oid) for oid, text in rows], id="plate-rows",
-                             markup=False)
-            yield Static("↑↓ pick · Enter opens · Esc closes", classes="hint")
-
-    def on_mount(self) -> None:
-        rows = self.query_one("#plate-rows", OptionList)
-        ids = [oid for oid, _ in menu_rows(self.lay)]
-        if self.highlight in ids:
-            rows.highlighted = ids.index(self.highlight)
-        rows.focus()
-
-    def action_close(self) -> None:
-        self.dismiss(None)
-
-    @on(OptionList.OptionSelected, "#plate-rows")
-    def _picked(self, event: OptionList.OptionSelected) -> None:
-        self.dismiss(event.option.id)
+    HEADING = "Plates and sheet trays (# steel, = other metal)"
+    LIST_ID = "plate-rows"
+    rows = staticmethod(menu_rows)
 
 
 def plate_form(layout: Layout, name: str | None) -> PlateForm:
